@@ -1,0 +1,5 @@
+"""Allow ``python -m clockplan``."""
+
+from clockplan.cli import main_entry
+
+main_entry()

@@ -1,0 +1,93 @@
+"""``clockplan plan [FILE]``: the ranked table of candidate plans for a board."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+import time
+
+from rich.console import Console
+from rich.progress import Progress
+
+from clockplan.errors import InputError
+from clockplan.export import result_to_data
+from clockplan.render import ranking_table, rates_table, status_line
+from clockplan.scenario import default_scenario_path, load_scenario
+from clockplan.solve import SearchResult, Status, search
+from clockplan.solve.search import DEFAULT_TIME_LIMIT
+
+EXIT_OK, EXIT_NO_PLAN = 0, 1
+
+
+def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    """Add the ``plan`` subcommand."""
+    parser = subparsers.add_parser(
+        "plan",
+        help="rank clock plans for a scenario file (the bundled demo board without FILE)",
+        description="Search oscillator frequencies and every PLL, divider and mux setting; "
+        "print the best plan for each oscillator choice, ranked by worst-case error.",
+    )
+    add_search_options(parser)
+    parser.add_argument(
+        "--json", action="store_true", help="print the plans as JSON on standard output"
+    )
+    parser.set_defaults(func=run)
+
+
+def add_search_options(parser: argparse.ArgumentParser) -> None:
+    """FILE, --top and --time-limit, shared by the commands that search."""
+    parser.add_argument(
+        "file", nargs="?", help="scenario file (TOML); default: the bundled demo board"
+    )
+    parser.add_argument(
+        "--top", type=int, default=5, metavar="K", help="how many plans to rank (default 5)"
+    )
+    parser.add_argument(
+        "--time-limit",
+        type=float,
+        default=DEFAULT_TIME_LIMIT,
+        metavar="S",
+        help=f"seconds the search may take (default {DEFAULT_TIME_LIMIT:g})",
+    )
+
+
+def run_search(args: argparse.Namespace, *, show_progress: bool) -> SearchResult:
+    """Load the scenario named by ``args`` and search it, with a progress bar on slow runs."""
+    if args.top < 1:
+        raise InputError("--top", f"{args.top} is not a positive count of plans")
+    if not args.time_limit > 0:
+        raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
+    scenario = load_scenario(args.file or default_scenario_path())
+    if not show_progress or not sys.stderr.isatty():
+        return search(scenario, top=args.top, time_limit=args.time_limit)
+    started = time.monotonic()
+    with Progress(console=Console(stderr=True), transient=True) as progress:
+        task = progress.add_task("searching", total=args.top, visible=False)
+
+        def report(done: int, total: int) -> None:
+            visible = time.monotonic() - started > 1.0
+            progress.update(task, completed=done, total=total, visible=visible)
+
+        return search(scenario, top=args.top, time_limit=args.time_limit, progress=report)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Print the ranking; exit 1 when no plan meets every allowance."""
+    result = run_search(args, show_progress=not args.json)
+    if args.json:
+        print(json.dumps(result_to_data(result), indent=2))
+    else:
+        console = Console()
+        console.print(status_line(result))
+        if result.plans:
+            console.print(ranking_table(result))
+            console.print(rates_table(result.plans[0]))
+        else:
+            console.print("No plan meets every limit and allowance.", style="bold red")
+    best_fits = bool(result.plans) and result.plans[0].evaluation.feasible
+    return (
+        EXIT_OK
+        if best_fits and result.status in (Status.OPTIMAL, Status.FEASIBLE)
+        else EXIT_NO_PLAN
+    )

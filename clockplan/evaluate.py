@@ -1,0 +1,181 @@
+"""Exact recomputation of a plan from its settings, independent of the search.
+
+It walks the clock tree in order with ``Fraction`` arithmetic, checks every range
+and allowed value, and scores every peripheral rate. It shares no code with
+:mod:`clockplan.solve`; the tests run it on every plan the search returns.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from fractions import Fraction
+
+from clockplan.interfaces.base import Requirement
+from clockplan.plan import Plan, pll_keys
+from clockplan.scenario import Scenario
+from clockplan.tree import evaluation_order
+
+__all__ = ["RateCheck", "Evaluation", "evaluate_plan"]
+
+
+@dataclass(frozen=True)
+class RateCheck:
+    """How one required rate fares in a plan."""
+
+    requirement: Requirement
+    kernel: Fraction
+    """Kernel clock feeding the peripheral, hertz."""
+    divisor: int
+    achieved: Fraction
+    """Rate produced, hertz (or baud)."""
+    source: str
+    """The oscillator this rate comes from."""
+    source_budget: Fraction
+    """That oscillator's worst-case relative error."""
+    source_budget_rss: float
+
+    @property
+    def error(self) -> Fraction:
+        """Synthesis error: achieved / target − 1, exact."""
+        return self.achieved / self.requirement.target - 1
+
+    @property
+    def worst_case(self) -> Fraction:
+        """|synthesis error| + the source's budget."""
+        return abs(self.error) + self.source_budget
+
+    @property
+    def worst_case_rss(self) -> float:
+        """|synthesis error| + the source's RSS budget (a statistical figure)."""
+        return abs(float(self.error)) + self.source_budget_rss
+
+    @property
+    def share(self) -> Fraction:
+        """Worst case as a share of the allowance; above 1 fails."""
+        return self.worst_case / self.requirement.allowance
+
+    @property
+    def margin(self) -> Fraction:
+        """Allowance left over after the worst case (negative when failing)."""
+        return self.requirement.allowance - self.worst_case
+
+    @property
+    def passes(self) -> bool:
+        """Whether the worst case fits inside the allowance."""
+        return self.worst_case <= self.requirement.allowance
+
+
+@dataclass(frozen=True)
+class Evaluation:
+    """Every clock's exact frequency, every rate's check, and any broken limit."""
+
+    clocks: dict[str, Fraction]
+    roots: dict[str, str]
+    """For each clock, the oscillator it comes from."""
+    checks: tuple[RateCheck, ...]
+    violations: tuple[str, ...]
+    """Broken limits and disallowed settings, in words."""
+
+    @property
+    def worst(self) -> RateCheck | None:
+        """The check with the largest share of its allowance (first one on ties)."""
+        return max(self.checks, key=lambda check: check.share, default=None)
+
+    @property
+    def worst_share(self) -> Fraction:
+        """The plan's figure of merit: its worst share of an allowance."""
+        worst = self.worst
+        return worst.share if worst else Fraction(0)
+
+    @property
+    def feasible(self) -> bool:
+        """No broken limit and every rate inside its allowance."""
+        return not self.violations and all(check.passes for check in self.checks)
+
+
+def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
+    """Recompute ``plan`` on ``scenario`` exactly."""
+    clocks: dict[str, Fraction] = {}
+    roots: dict[str, str] = {}
+    violations: list[str] = []
+    plls = {pll.name: pll for pll in scenario.plls}
+    dividers = {divider.name: divider for divider in scenario.dividers}
+    muxes = {mux.name: mux for mux in scenario.muxes}
+    for name in evaluation_order(scenario):
+        if name in plan.sources:
+            source = scenario.source(name)
+            clocks[name], roots[name] = plan.sources[name], name
+            if plan.sources[name] not in source.candidates:
+                violations.append(f"{name}: {plan.sources[name]} Hz is not among its candidates")
+        elif name in plls:
+            pll = plls[name]
+            reference_key, multiplier_key, fraction_key = pll_keys(name)
+            reference = _setting(plan, reference_key, pll.reference_divider, violations)
+            whole = _setting(plan, multiplier_key, pll.multiplier, violations)
+            fraction = _setting(plan, fraction_key, range(2**pll.fraction_bits), violations, 0)
+            detector = clocks[pll.input] / reference
+            _within(f"{name} PFD", detector, pll.pfd, violations)
+            clocks[name] = detector * (whole + Fraction(fraction, 2**pll.fraction_bits))
+            roots[name] = roots[pll.input]
+            _within(f"{name} VCO", clocks[name], pll.vco, violations)
+        elif name in dividers:
+            divider = dividers[name]
+            value = _setting(plan, f"{name}.divide", divider.divide, violations)
+            clocks[name] = clocks[divider.input] / value
+            roots[name] = roots[divider.input]
+            _within(name, clocks[name], (divider.minimum, divider.maximum), violations)
+        else:
+            mux = muxes[name]
+            chosen = plan.settings.get(f"{name}.input")
+            if chosen not in mux.inputs:
+                violations.append(f"{name}.input: {chosen!r} is not one of {', '.join(mux.inputs)}")
+                chosen = mux.inputs[0]
+            clocks[name], roots[name] = clocks[str(chosen)], roots[str(chosen)]
+            _within(name, clocks[name], (None, mux.maximum), violations)
+    checks = []
+    for peripheral in scenario.peripherals:
+        kernel = clocks[peripheral.clock]
+        source = scenario.source(roots[peripheral.clock])
+        for requirement in peripheral.requirements:
+            divisor = _setting(plan, requirement.setting, requirement.divisors, violations)
+            checks.append(
+                RateCheck(
+                    requirement,
+                    kernel,
+                    divisor,
+                    requirement.achieved(kernel, divisor),
+                    source.name,
+                    source.budget,
+                    source.budget_rss,
+                )
+            )
+    return Evaluation(clocks, roots, tuple(checks), tuple(violations))
+
+
+def _setting(
+    plan: Plan,
+    key: str,
+    allowed: range | tuple[int, ...],
+    violations: list[str],
+    default: int | None = None,
+) -> int:
+    value = plan.settings.get(key, default)
+    if value is None and len(allowed) == 1:
+        return allowed[0]
+    if not isinstance(value, int) or value not in allowed:
+        violations.append(f"{key}: {value!r} is not an allowed value")
+        return allowed[0] if value is None or not isinstance(value, int) else value
+    return value
+
+
+def _within(
+    label: str,
+    value: Fraction,
+    limits: tuple[Fraction | None, Fraction | None],
+    violations: list[str],
+) -> None:
+    low, high = limits
+    if low is not None and value < low:
+        violations.append(f"{label}: {float(value):.6g} Hz is below {float(low):.6g} Hz")
+    if high is not None and value > high:
+        violations.append(f"{label}: {float(value):.6g} Hz is above {float(high):.6g} Hz")

@@ -1,0 +1,88 @@
+"""Plans as plain data: the JSON contract that outside programs can recompute from.
+
+Exact values are strings: an integer ("48000000") or a ratio ("8400000/73").
+Figures in ppm and shares are floats, for reading only.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from clockplan.evaluate import RateCheck
+from clockplan.quantities import exact_string
+from clockplan.solve import RankedPlan, SearchResult
+
+__all__ = ["result_to_data", "plan_to_data", "check_to_data"]
+
+
+def result_to_data(result: SearchResult) -> dict[str, Any]:
+    """The whole search result in the JSON contract."""
+    return {
+        "scenario": result.scenario.title,
+        "file": result.scenario.file,
+        "status": result.status.value,
+        "time_limited": result.time_limited,
+        "elapsed_s": round(result.elapsed, 3),
+        "error_precision_digits": result.precision,
+        "plans": [plan_to_data(result, ranked) for ranked in result.plans],
+    }
+
+
+def plan_to_data(result: SearchResult, ranked: RankedPlan) -> dict[str, Any]:
+    """One ranked plan: oscillators, settings, every clock, every rate."""
+    evaluation = ranked.evaluation
+    scenario = result.scenario
+    peripherals: dict[str, list[dict[str, Any]]] = {}
+    for check in evaluation.checks:
+        peripherals.setdefault(check.requirement.peripheral, []).append(check_to_data(check))
+    worst = evaluation.worst
+    return {
+        "rank": ranked.rank,
+        "status": ranked.status.value,
+        "sources": {
+            name: {
+                "hz": exact_string(frequency),
+                "kind": scenario.source(name).kind,
+                "budget_ppm": _ppm(scenario.source(name).budget),
+                "budget_rss_ppm": round(scenario.source(name).budget_rss * 1e6, 6),
+                "budget_terms_ppm": {
+                    key: _ppm(value) for key, value in scenario.source(name).terms.items()
+                },
+            }
+            for name, frequency in ranked.plan.sources.items()
+        },
+        "settings": dict(ranked.plan.settings),
+        "clocks": {name: exact_string(value) for name, value in evaluation.clocks.items()},
+        "peripherals": peripherals,
+        "worst_share": float(evaluation.worst_share),
+        "worst_peripheral": worst.requirement.peripheral if worst else None,
+        "meets_every_allowance": evaluation.feasible,
+        "violations": list(evaluation.violations),
+    }
+
+
+def check_to_data(check: RateCheck) -> dict[str, Any]:
+    """One required rate: target, achieved, errors and allowance."""
+    requirement = check.requirement
+    return {
+        "label": requirement.label,
+        "setting": requirement.setting,
+        "divisor": check.divisor,
+        "kernel_hz": exact_string(check.kernel),
+        "target_hz": exact_string(requirement.target),
+        "achieved_hz": exact_string(check.achieved),
+        "error_ppm": _ppm(check.error),
+        "source": check.source,
+        "source_budget_ppm": _ppm(check.source_budget),
+        "worst_case_ppm": _ppm(check.worst_case),
+        "worst_case_rss_ppm": round(check.worst_case_rss * 1e6, 6),
+        "allowance_ppm": _ppm(requirement.allowance),
+        "allowance_basis": requirement.allowance_basis,
+        "margin_ppm": _ppm(check.margin),
+        "share": round(float(check.share), 9),
+        "passes": check.passes,
+    }
+
+
+def _ppm(value: object) -> float:
+    return round(float(value) * 1e6, 6)  # type: ignore[arg-type]

@@ -1,0 +1,28 @@
+"""Keys shared by every peripheral kind: ``from`` and an ``allowance`` override."""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from clockplan._fields import Fields
+from clockplan.quantities import parse_relative
+
+__all__ = ["read_clock", "read_allowance"]
+
+
+def read_clock(fields: Fields) -> str:
+    """The node feeding the peripheral (key ``from``)."""
+    return fields.take_str("from")
+
+
+def read_allowance(fields: Fields, default: Fraction | None, basis: str) -> tuple[Fraction, str]:
+    """The allowance: the scenario's ``allowance`` when given, else the kind's default."""
+    if fields.has("allowance"):
+        value = fields.take("allowance", parse_relative)
+        if value <= 0:
+            raise fields.error("allowance", "must be above zero")
+        return value, "set in the scenario"
+    fields.take("allowance", parse_relative, None)
+    if default is None:
+        raise fields.error("allowance", 'is missing; give the tolerance like "50 ppm"')
+    return default, basis

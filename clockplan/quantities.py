@@ -1,0 +1,273 @@
+"""Exact quantities: parse "11.0592 MHz", "20 ppm", "1..63", "pow2 0..9" to rationals.
+
+Every value leaves this module as an ``int`` or a ``fractions.Fraction``; floats
+appear only in the ``format_*`` helpers, which are for display.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Sequence
+from fractions import Fraction
+from typing import Literal
+
+__all__ = [
+    "QuantityError",
+    "parse_frequency",
+    "parse_relative",
+    "parse_capacitance",
+    "parse_quantity",
+    "parse_integer_choices",
+    "parse_frequency_range",
+    "parse_number",
+    "format_hz",
+    "format_ppm",
+    "format_relative",
+    "exact_string",
+    "parse_exact_string",
+]
+
+FREQUENCY_UNITS: dict[str, int] = {"Hz": 1, "kHz": 10**3, "MHz": 10**6, "GHz": 10**9}
+"""Frequency units and their exact factor to hertz."""
+
+RELATIVE_UNITS: dict[str, Fraction] = {
+    "ppm": Fraction(1, 10**6),
+    "ppb": Fraction(1, 10**9),
+    "%": Fraction(1, 100),
+}
+"""Relative units (a share of a nominal value) and their exact factor."""
+
+CAPACITANCE_UNITS: dict[str, Fraction] = {
+    "F": Fraction(1),
+    "uF": Fraction(1, 10**6),
+    "µF": Fraction(1, 10**6),
+    "nF": Fraction(1, 10**9),
+    "pF": Fraction(1, 10**12),
+    "fF": Fraction(1, 10**15),
+}
+"""Capacitance units and their exact factor to farads."""
+
+Dimension = Literal["frequency", "relative", "capacitance"]
+
+_UNIT_TABLES: dict[str, dict[str, Fraction] | dict[str, int]] = {
+    "frequency": FREQUENCY_UNITS,
+    "relative": RELATIVE_UNITS,
+    "capacitance": CAPACITANCE_UNITS,
+}
+
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.][^\s]*)?\s*$")
+_RANGE = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$")
+_POW2 = re.compile(r"^\s*pow2\s+(\d+)(?:\s*\.\.\s*(\d+))?\s*$")
+_INT = re.compile(r"^\s*[+-]?\d+\s*$")
+
+MAX_CHOICES = 1_000_000
+"""The most integer choices one setting may list; more is a mistake or an explosion."""
+
+
+class QuantityError(ValueError):
+    """A text could not be read as the quantity that was expected."""
+
+
+def parse_number(text: str | int | float) -> Fraction:
+    """Read a plain number exactly: ``"11.0592"`` -> ``Fraction(110592, 10000)``.
+
+    Floats from TOML are read through their shortest decimal repr, so ``0.1``
+    means one tenth, as the user wrote it.
+    """
+    if isinstance(text, bool):
+        raise QuantityError(f"{text!r} is not a number")
+    if isinstance(text, int):
+        return Fraction(text)
+    if isinstance(text, float):
+        if text != text or text in (float("inf"), float("-inf")):
+            raise QuantityError(f"{text!r} is not a finite number")
+        return Fraction(repr(text))
+    if not isinstance(text, str) or not re.fullmatch(rf"\s*{_NUMBER}\s*", text):
+        raise QuantityError(f"{text!r} is not a number")
+    return Fraction(text.strip())
+
+
+def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None = None) -> Fraction:
+    """Read a number with a unit of ``dimension`` to an exact value in base units.
+
+    ``bare_unit`` names the unit a plain number (no unit written) is taken in;
+    without it a unit is required.
+
+    >>> parse_quantity("11.0592 MHz", "frequency")
+    Fraction(11059200, 1)
+    """
+    table = _UNIT_TABLES[dimension]
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        if bare_unit is None:
+            raise QuantityError(f"{text!r} has no unit; write it like {_example(dimension)}")
+        return parse_number(text) * table[bare_unit]
+    if not isinstance(text, str):
+        raise QuantityError(f"{text!r} is not a {dimension} such as {_example(dimension)}")
+    match = _QUANTITY.match(text)
+    if not match:
+        raise QuantityError(f"{text!r} is not a {dimension} such as {_example(dimension)}")
+    number, unit = match.groups()
+    if unit is None:
+        if bare_unit is None:
+            raise QuantityError(f"{text!r} has no unit; write it like {_example(dimension)}")
+        unit = bare_unit
+    factor = _lookup_unit(unit, table)
+    if factor is None:
+        known = ", ".join(table)
+        raise QuantityError(f"{text!r} has unit {unit!r}; expected one of {known}")
+    return Fraction(number) * factor
+
+
+def _lookup_unit(unit: str, table: dict[str, Fraction] | dict[str, int]) -> Fraction | None:
+    if unit in table:
+        return Fraction(table[unit])
+    folded = {name.lower(): factor for name, factor in table.items()}
+    # "mhz" is unambiguous for frequency; "MHz" vs "mHz" is the one trap we refuse.
+    if unit.lower() in folded and unit != "mHz":
+        return Fraction(folded[unit.lower()])
+    return None
+
+
+def _example(dimension: Dimension) -> str:
+    return {"frequency": '"12 MHz"', "relative": '"20 ppm" or "0.5 %"', "capacitance": '"18 pF"'}[
+        dimension
+    ]
+
+
+def parse_frequency(text: object) -> Fraction:
+    """Read a positive frequency with its unit, in hertz."""
+    value = parse_quantity(text, "frequency")
+    if value <= 0:
+        raise QuantityError(f"{text!r} is not a positive frequency")
+    return value
+
+
+def parse_relative(text: object) -> Fraction:
+    """Read a non-negative relative quantity ("20 ppm", "0.5 %") as a plain ratio."""
+    value = parse_quantity(text, "relative")
+    if value < 0:
+        raise QuantityError(f'{text!r} is negative; give the size of the band, like "20 ppm"')
+    return value
+
+
+def parse_capacitance(text: object) -> Fraction:
+    """Read a non-negative capacitance with its unit, in farads."""
+    value = parse_quantity(text, "capacitance")
+    if value < 0:
+        raise QuantityError(f"{text!r} is a negative capacitance")
+    return value
+
+
+def parse_frequency_range(text: object) -> tuple[Fraction, Fraction]:
+    """Read ``"1 MHz .. 2 MHz"`` to ``(low, high)`` in hertz, low <= high."""
+    if not isinstance(text, str) or not _RANGE.match(text):
+        raise QuantityError(f'{text!r} is not a frequency range such as "1 MHz .. 2 MHz"')
+    low_text, high_text = _RANGE.match(text).groups()  # type: ignore[union-attr]
+    low, high = parse_frequency(low_text), parse_frequency(high_text)
+    if low > high:
+        raise QuantityError(f"{text!r} runs backwards; write the low end first")
+    return low, high
+
+
+def parse_integer_choices(value: object, *, minimum: int = 1) -> range | tuple[int, ...]:
+    """Read an integer setting's allowed values, sorted and without repeats.
+
+    A span ``"a..b"`` stays a ``range`` (compact, exact); anything else is a tuple.
+
+    Accepts an integer, a list of integers, ``"a..b"`` or ``"pow2 a..b"``
+    (2**a … 2**b) or ``"pow2 n"`` (exactly 2**n).
+
+    >>> parse_integer_choices("pow2 0..3")
+    (1, 2, 4, 8)
+    """
+    if isinstance(value, bool):
+        raise QuantityError(f'{value!r} is not a whole number, a list, "a..b" or "pow2 a..b"')
+    if isinstance(value, int):
+        values: Sequence[int] = [value]
+    elif isinstance(value, list):
+        if not value:
+            raise QuantityError("an empty list allows nothing; give at least one value")
+        if not all(isinstance(v, int) and not isinstance(v, bool) for v in value):
+            raise QuantityError(f"{value!r} must list whole numbers only")
+        values = value
+    elif isinstance(value, str):
+        values = _parse_integer_text(value)
+    else:
+        raise QuantityError(f'{value!r} is not a whole number, a list, "a..b" or "pow2 a..b"')
+    if min(values) < minimum:
+        raise QuantityError(f"{min(values)} is below the smallest allowed value {minimum}")
+    if isinstance(values, range):
+        return values
+    return tuple(sorted(set(values)))
+
+
+def _parse_integer_text(text: str) -> Sequence[int]:
+    pow2 = _POW2.match(text)
+    if pow2:
+        first = int(pow2.group(1))
+        last = int(pow2.group(2)) if pow2.group(2) is not None else first
+        if first > last:
+            raise QuantityError(f"{text!r} runs backwards; write the low end first")
+        if last > 62:
+            raise QuantityError(f"{text!r} goes past 2**62, more than any divider holds")
+        return [2**k for k in range(first, last + 1)]
+    span = _RANGE.match(text)
+    if span and _INT.match(span.group(1)) and _INT.match(span.group(2)):
+        low, high = int(span.group(1)), int(span.group(2))
+        if low > high:
+            raise QuantityError(f"{text!r} runs backwards; write the low end first")
+        if high - low + 1 > MAX_CHOICES:
+            raise QuantityError(f"{text!r} allows {high - low + 1} values; at most {MAX_CHOICES}")
+        return range(low, high + 1)
+    if _INT.match(text):
+        return [int(text)]
+    raise QuantityError(f'{text!r} is not a whole number, "a..b" or "pow2 a..b"')
+
+
+def exact_string(value: Fraction | int) -> str:
+    """Write an exact value as ``"48000000"`` or ``"8400000/73"`` (the JSON form)."""
+    value = Fraction(value)
+    return (
+        str(value.numerator) if value.denominator == 1 else f"{value.numerator}/{value.denominator}"
+    )
+
+
+def parse_exact_string(text: str) -> Fraction:
+    """Read back what :func:`exact_string` wrote."""
+    return Fraction(text)
+
+
+def format_hz(value: Fraction | int, *, digits: int = 7) -> str:
+    """Show a frequency with a readable unit: ``format_hz(11059200)`` -> ``"11.0592 MHz"``."""
+    value = Fraction(value)
+    for unit in ("GHz", "MHz", "kHz"):
+        if abs(value) >= FREQUENCY_UNITS[unit]:
+            scaled = value / FREQUENCY_UNITS[unit]
+            return f"{_trim(scaled, digits)} {unit}"
+    return f"{_trim(value, digits)} Hz"
+
+
+def _trim(value: Fraction, digits: int) -> str:
+    if value.denominator == 1:
+        return str(value.numerator)
+    text = f"{float(value):.{digits}f}".rstrip("0").rstrip(".")
+    exact = Fraction(text) == value
+    return text if exact else f"{float(value):.{digits}g}".rstrip("0").rstrip(".") + "…"
+
+
+def format_ppm(value: Fraction | float, *, signed: bool = False) -> str:
+    """Show a ratio in ppm, e.g. ``format_ppm(Fraction(1, 400))`` -> ``"2500 ppm"``."""
+    ppm = float(value) * 1e6
+    text = f"{ppm:+.3f}" if signed else f"{ppm:.3f}"
+    text = text.rstrip("0").rstrip(".")
+    return f"{text} ppm"
+
+
+def format_relative(value: Fraction | float, *, signed: bool = False) -> str:
+    """Show a ratio in ppm below 0.1 % and in percent above, as engineers write them."""
+    if abs(float(value)) >= 1e-3:
+        percent = float(value) * 100
+        text = f"{percent:+.4f}" if signed else f"{percent:.4f}"
+        return text.rstrip("0").rstrip(".") + " %"
+    return format_ppm(value, signed=signed)

@@ -1,0 +1,103 @@
+"""Rich tables for the terminal. Library code never prints; commands hand these to a console."""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from rich.table import Table
+from rich.text import Text
+
+from clockplan.evaluate import RateCheck
+from clockplan.quantities import format_hz, format_relative
+from clockplan.solve import RankedPlan, SearchResult, Status
+
+__all__ = ["ranking_table", "rates_table", "status_line", "share_text"]
+
+_STATUS_WORDS = {
+    Status.OPTIMAL: "optimal (proved)",
+    Status.FEASIBLE: "feasible, not proved (time limit)",
+    Status.INFEASIBLE: "no plan fits (proved)",
+    Status.UNKNOWN: "unknown (time limit before any plan)",
+}
+
+
+def status_line(result: SearchResult) -> Text:
+    """One line saying what the search proved and how long it took."""
+    words = _STATUS_WORDS[result.status]
+    style = {"optimal": "bold green", "feasible": "yellow"}.get(result.status.value, "bold red")
+    line = Text.assemble(("Status: ", "bold"), (words, style), f"   {result.elapsed:.2f} s")
+    if result.time_limited and result.status is Status.OPTIMAL:
+        line.append("   (the time limit cut later ranks short)", style="yellow")
+    return line
+
+
+def share_text(share: Fraction) -> Text:
+    """A share of an allowance as a percentage, coloured by how close to failing it is."""
+    style = "green" if share <= Fraction(1, 2) else "yellow" if share <= 1 else "bold red"
+    return Text(f"{float(share) * 100:.2f} %", style=style)
+
+
+def ranking_table(result: SearchResult) -> Table:
+    """The ranked plans, one row per choice of oscillator frequencies."""
+    table = Table(title=f"{result.scenario.title}: ranked clock plans", title_justify="left")
+    table.add_column("#", justify="right")
+    table.add_column("oscillators")
+    table.add_column("worst share", justify="right")
+    table.add_column("worst error", justify="right")
+    table.add_column("limited by")
+    table.add_column("fastest clocks")
+    table.add_column("proof")
+    fastest = [d.name for d in result.scenario.dividers if d.fastest]
+    for ranked in result.plans:
+        evaluation = ranked.evaluation
+        worst = evaluation.worst
+        oscillators = ", ".join(
+            f"{name} {format_hz(hz)}" for name, hz in ranked.plan.sources.items()
+        )
+        clocks = (
+            ", ".join(f"{name} {format_hz(evaluation.clocks[name])}" for name in fastest) or "-"
+        )
+        table.add_row(
+            str(ranked.rank),
+            oscillators,
+            share_text(evaluation.worst_share),
+            format_relative(worst.worst_case) if worst else "-",
+            f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
+            clocks,
+            ranked.status.value,
+        )
+    return table
+
+
+def rates_table(ranked: RankedPlan) -> Table:
+    """Every required rate of one plan: achieved, error, budget, allowance, margin."""
+    table = Table(title=f"Plan {ranked.rank}: every required rate", title_justify="left")
+    for name, justify in (
+        ("peripheral", "left"),
+        ("rate", "left"),
+        ("achieved", "right"),
+        ("error", "right"),
+        ("worst case", "right"),
+        ("allowance", "right"),
+        ("share", "right"),
+        ("", "left"),
+    ):
+        table.add_column(name, justify=justify)  # type: ignore[arg-type]
+    for check in ranked.evaluation.checks:
+        table.add_row(*_rate_cells(check))
+    return table
+
+
+def _rate_cells(check: RateCheck) -> list[str | Text]:
+    requirement = check.requirement
+    mark = Text("pass", style="green") if check.passes else Text("FAIL", style="bold red")
+    return [
+        requirement.peripheral,
+        requirement.label,
+        format_hz(check.achieved),
+        format_relative(check.error, signed=True),
+        format_relative(check.worst_case),
+        format_relative(requirement.allowance),
+        share_text(check.share),
+        mark,
+    ]

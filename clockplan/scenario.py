@@ -1,0 +1,298 @@
+"""Scenario files: TOML describing one board, read into frozen, validated dataclasses.
+
+Every mistake raises :class:`~clockplan.errors.ScenarioError` naming the file, the
+key path and what was expected. Structural checks (unknown ``from``, loops) live in
+:mod:`clockplan.tree`, which :func:`load_scenario` runs before returning.
+"""
+
+from __future__ import annotations
+
+import re
+import tomllib
+from dataclasses import dataclass
+from fractions import Fraction
+from importlib import resources
+from pathlib import Path
+
+from clockplan._fields import Fields
+from clockplan.catalog import catalog_frequencies
+from clockplan.errors import ScenarioError
+from clockplan.interfaces import Peripheral, read_peripheral
+from clockplan.interfaces.base import Divisors
+from clockplan.quantities import (
+    QuantityError,
+    parse_frequency,
+    parse_frequency_range,
+    parse_integer_choices,
+    parse_number,
+    parse_relative,
+)
+from clockplan.sources import SOURCE_KINDS, Conditions, Source, tuning_fork_offset
+
+__all__ = [
+    "Pll",
+    "Divider",
+    "Mux",
+    "Scenario",
+    "load_scenario",
+    "parse_scenario",
+    "default_scenario_path",
+    "MAX_CANDIDATES",
+]
+
+MAX_CANDIDATES = 2_000_000
+"""The most candidate frequencies one source may offer the search."""
+MAX_FRACTION_BITS = 24
+"""Widest fractional-N modulus accepted (2**24), to keep the model inside 64-bit integers."""
+
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_SECTIONS = ("title", "conditions", "sources", "plls", "dividers", "muxes", "peripherals")
+
+
+@dataclass(frozen=True)
+class Pll:
+    """A phase-locked loop: input ÷ reference divider → PFD, × multiplier → VCO (its output)."""
+
+    name: str
+    input: str
+    reference_divider: Divisors
+    pfd: tuple[Fraction, Fraction]
+    """Allowed phase-frequency-detector input range, hertz."""
+    multiplier: Divisors
+    """Allowed whole part of the feedback divider."""
+    fraction_bits: int
+    """Fractional-N modulus is 2**fraction_bits; 0 for an integer-N loop."""
+    vco: tuple[Fraction, Fraction]
+    """Allowed VCO range, hertz."""
+
+
+@dataclass(frozen=True)
+class Divider:
+    """A divider (or prescaler): output = input ÷ one of the allowed values."""
+
+    name: str
+    input: str
+    divide: Divisors
+    minimum: Fraction | None = None
+    """Lowest allowed output frequency, hertz."""
+    maximum: Fraction | None = None
+    """Highest allowed output frequency, hertz."""
+    fastest: bool = False
+    """Whether the search should make this clock as fast as allowed (a secondary goal)."""
+
+
+@dataclass(frozen=True)
+class Mux:
+    """A clock selector: its output is one of its inputs, chosen by the search."""
+
+    name: str
+    inputs: tuple[str, ...]
+    maximum: Fraction | None = None
+    """Highest allowed output frequency, hertz."""
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """One board: its oscillators, clock structure and peripherals."""
+
+    title: str
+    file: str
+    conditions: Conditions
+    sources: tuple[Source, ...]
+    plls: tuple[Pll, ...]
+    dividers: tuple[Divider, ...]
+    muxes: tuple[Mux, ...]
+    peripherals: tuple[Peripheral, ...]
+
+    def source(self, name: str) -> Source:
+        """The source called ``name``."""
+        return next(source for source in self.sources if source.name == name)
+
+    @property
+    def clock_names(self) -> tuple[str, ...]:
+        """Every clock node (sources, PLLs, dividers, muxes) in file order."""
+        groups = (self.sources, self.plls, self.dividers, self.muxes)
+        return tuple(item.name for group in groups for item in group)
+
+
+def default_scenario_path() -> Path:
+    """The bundled default scenario (a small board of our own invention)."""
+    return Path(str(resources.files("clockplan").joinpath("data/default.toml")))
+
+
+def load_scenario(path: str | Path) -> Scenario:
+    """Read and check a scenario file; raise :class:`ScenarioError` on any mistake."""
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise ScenarioError(str(path), "", "no such file") from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise ScenarioError(str(path), "", f"cannot be read ({error})") from None
+    return parse_scenario(text, str(path))
+
+
+def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
+    """Read a scenario from TOML text; ``file`` names it in error messages."""
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise ScenarioError(file, "", f"is not valid TOML ({error})") from None
+    top = Fields(document, file=file, path="")
+    title = top.take_str("title", Path(file).stem)
+    conditions = _read_conditions(top)
+    sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions))
+    if not sources:
+        raise top.error("sources", "is missing; a scenario needs at least one oscillator")
+    plls = _read_section(top, "plls", _read_pll)
+    dividers = _read_section(top, "dividers", _read_divider)
+    muxes = _read_section(top, "muxes", _read_mux)
+    peripherals = _read_section(top, "peripherals", read_peripheral)
+    top.finish()
+    scenario = Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals)
+    _check_unique_names(scenario)
+    from clockplan.tree import check_structure
+
+    check_structure(scenario)
+    return scenario
+
+
+def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-def]
+    if not top.has(section):
+        top.take(section, dict, {})
+        return ()
+    table = top.sub(section)
+    items = []
+    for name in table.table:
+        if not _NAME.match(name):
+            raise table.error(
+                name, "names must start with a letter and hold only letters, digits and _"
+            )
+        fields = table.sub(name)
+        items.append(read(fields, name))
+        fields.finish()
+    table.finish()
+    return tuple(items)
+
+
+def _read_conditions(top: Fields) -> Conditions:
+    if not top.has("conditions"):
+        top.take("conditions", dict, None)
+        return Conditions()
+    fields = top.sub("conditions")
+    default = Conditions()
+    temperature = fields.take("temperature", _temperature_range, default.temperature)
+    years = fields.take("years", parse_number, default.years)
+    if years < 0:
+        raise fields.error("years", "cannot be negative")
+    fields.finish()
+    return Conditions(temperature, years)
+
+
+def _temperature_range(value: object) -> tuple[Fraction, Fraction]:
+    if not isinstance(value, str) or ".." not in value:
+        raise QuantityError(f'{value!r} is not a range in °C such as "-20..70"')
+    low_text, high_text = value.replace("°C", "").replace("C", "").split("..", 1)
+    low, high = parse_number(low_text.strip()), parse_number(high_text.strip())
+    if low > high:
+        raise QuantityError(f"{value!r} runs backwards; write the low end first")
+    if low < -273 or high > 1000:
+        raise QuantityError(f"{value!r} is not a plausible temperature range in °C")
+    return low, high
+
+
+def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
+    kind_name = fields.take_str("kind", choices=tuple(SOURCE_KINDS))
+    kind = SOURCE_KINDS[kind_name]
+    candidates = fields.take("choose", _candidates)
+    tolerance = fields.take("tolerance", parse_relative, kind.tolerance)
+    default_stability = kind.stability
+    if kind_name == "tuning-fork":
+        low, high = conditions.temperature
+        default_stability = max(abs(tuning_fork_offset(t)) for t in (low, high))
+    stability = fields.take("stability", parse_relative, default_stability)
+    aging = fields.take("aging", parse_relative, kind.aging_per_year * conditions.years)
+    return Source(name, kind_name, candidates, tolerance, stability, aging)
+
+
+def _candidates(value: object) -> tuple[Fraction, ...]:
+    if value == "catalog":
+        return catalog_frequencies()
+    if isinstance(value, list):
+        if not value:
+            raise QuantityError("an empty list offers no frequency; give at least one")
+        return tuple(dict.fromkeys(parse_frequency(item) for item in value))
+    if isinstance(value, dict):
+        unknown = set(value) - {"from", "to", "step"}
+        if unknown or len(value) != 3:
+            raise QuantityError(
+                'expected a table { from = "4 MHz", to = "26 MHz", step = "1 kHz" }'
+            )
+        low, high = parse_frequency(value["from"]), parse_frequency(value["to"])
+        step = parse_frequency(value["step"])
+        if low > high:
+            raise QuantityError(f"from {value['from']!r} is above to {value['to']!r}")
+        count = (high - low) // step + 1
+        if count > MAX_CANDIDATES:
+            raise QuantityError(f"the range holds {count} frequencies; at most {MAX_CANDIDATES}")
+        return tuple(low + step * k for k in range(int(count)))
+    if isinstance(value, str):
+        return (parse_frequency(value),)
+    raise QuantityError('expected "catalog", a list of frequencies or { from, to, step }')
+
+
+def _read_pll(fields: Fields, name: str) -> Pll:
+    source = fields.take_str("from")
+    reference = fields.take("reference_divider", parse_integer_choices, (1,))
+    pfd = fields.take("pfd", parse_frequency_range, None)
+    multiplier = fields.take("multiplier", parse_integer_choices)
+    fraction_bits = fields.take_int("fraction_bits", 0, minimum=0, maximum=MAX_FRACTION_BITS)
+    vco = fields.take("vco", parse_frequency_range)
+    if pfd is None:
+        pfd = (Fraction(0), vco[1])
+    return Pll(name, source, reference, pfd, multiplier, fraction_bits, vco)
+
+
+def _read_divider(fields: Fields, name: str) -> Divider:
+    source = fields.take_str("from")
+    divide = fields.take("divide", parse_integer_choices)
+    minimum = fields.take("min", parse_frequency, None)
+    maximum = fields.take("max", parse_frequency, None)
+    goal = fields.take_str("goal", "none", choices=("none", "fastest"))
+    if minimum is not None and maximum is not None and minimum > maximum:
+        raise fields.error("min", "is above max")
+    return Divider(name, source, divide, minimum, maximum, goal == "fastest")
+
+
+def _read_mux(fields: Fields, name: str) -> Mux:
+    inputs = fields.take("from", _name_list)
+    maximum = fields.take("max", parse_frequency, None)
+    return Mux(name, inputs, maximum)
+
+
+def _name_list(value: object) -> tuple[str, ...]:
+    if not isinstance(value, list) or not all(isinstance(item, str) for item in value):
+        raise QuantityError('expected a list of clock names, like ["bus", "usb_clock"]')
+    if len(set(value)) != len(value):
+        raise QuantityError(f"{value!r} names an input twice")
+    return tuple(value)
+
+
+def _check_unique_names(scenario: Scenario) -> None:
+    seen: dict[str, str] = {}
+    sections = {
+        "sources": scenario.sources,
+        "plls": scenario.plls,
+        "dividers": scenario.dividers,
+        "muxes": scenario.muxes,
+        "peripherals": scenario.peripherals,
+    }
+    for section, items in sections.items():
+        for item in items:
+            if item.name in seen:
+                raise ScenarioError(
+                    scenario.file,
+                    f"{section}.{item.name}",
+                    f"the name is already used in {seen[item.name]}",
+                )
+            seen[item.name] = section

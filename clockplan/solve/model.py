@@ -1,0 +1,464 @@
+"""The CP-SAT model of one scenario: exact integer arithmetic on scaled frequencies.
+
+Every oscillator frequency is ``unit × x`` with ``x`` an integer variable over the
+source's candidates (``unit`` is the exact greatest common divisor of all
+candidates). Every clock is then ``unit × amount / count``: ``amount`` grows with
+PLL multipliers, ``count`` with reference dividers and dividers. Limits become
+linear inequalities between the two, and a rate requirement's synthesis error is
+the exact integer ``deviation = unit·target-denominator·numerator·amount −
+target·unit-denominator·count·divisor``.
+
+The objective is the worst share of an allowance, counted in steps of
+1/``SHARE_STEPS``; synthesis errors enter it rounded up to 10**-``precision``
+(``precision`` as fine as 64-bit integers allow, at most 9 digits). The exact
+figures are recomputed afterwards by :mod:`clockplan.evaluate`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+from ortools.sat.python import cp_model
+
+from clockplan.errors import ModelTooLargeError
+from clockplan.interfaces.base import Divisors, Requirement
+from clockplan.plan import Plan, pll_keys
+from clockplan.scenario import Scenario
+from clockplan.tree import evaluation_order
+
+__all__ = ["ClockModel", "build_model", "SHARE_STEPS", "LIMIT"]
+
+SHARE_STEPS = 10_000
+"""The objective counts the worst share of an allowance in steps of 1/10 000."""
+LIMIT = 2**62
+"""Largest magnitude any term of the model may reach (CP-SAT refuses overflow past 2**63)."""
+MAX_PRECISION = 9
+
+
+@dataclass(frozen=True)
+class _Term:
+    """A non-negative integer expression of the model with its exact bounds."""
+
+    expr: cp_model.LinearExprT
+    low: int
+    high: int
+
+    @property
+    def constant(self) -> bool:
+        return self.low == self.high
+
+
+@dataclass
+class _Rate:
+    """The variables of one requirement."""
+
+    requirement: Requirement
+    node: str
+    divisor: cp_model.IntVar
+    count: _Term
+    deviation_bound: int
+    scale: int
+    """Denominator of the relative error: relative error = deviation / (scale · count)."""
+    deviation: cp_model.LinearExprT
+    error_steps: cp_model.IntVar | None = None
+
+
+@dataclass
+class ClockModel:
+    """A built model with handles to read a plan back."""
+
+    scenario: Scenario
+    model: cp_model.CpModel
+    unit: Fraction
+    precision: int
+    worst: cp_model.IntVar
+    """Worst share of an allowance in steps of 1/SHARE_STEPS (the primary objective)."""
+    source_values: dict[str, cp_model.IntVar] = field(default_factory=dict)
+    settings: dict[str, cp_model.IntVar] = field(default_factory=dict)
+    mux_inputs: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    fastest: list[cp_model.IntVar] = field(default_factory=list)
+    """Floors of the clocks marked "fastest", hertz (the secondary objective, maximised)."""
+    shares: list[cp_model.IntVar] = field(default_factory=list)
+    """Each rate's share of its allowance in steps (their sum is the third objective)."""
+    preference: cp_model.IntVar | None = None
+    """Position of the chosen frequency in the first choosing source's list (last tie-breaker)."""
+
+    def tie_breaker(self) -> cp_model.LinearExprT:
+        """Fastest clocks first, then the smallest sum of shares, then the earlier candidate.
+
+        Weighted so that each term outranks everything after it (a lexicographic order).
+        """
+        share_span = SHARE_STEPS * len(self.shares) + 1
+        preference_span = 1
+        if self.preference is not None:
+            preference_span = _upper(self.preference) + 1
+        fastest_high = sum(_upper(var) for var in self.fastest)
+        if (fastest_high + 1) * share_span * preference_span >= LIMIT:
+            preference_span = 1  # too many candidates to weigh; CP-SAT's own order decides
+        objective = sum(self.fastest) * share_span * preference_span
+        objective -= sum(self.shares) * preference_span
+        if preference_span > 1 and self.preference is not None:
+            objective -= self.preference
+        return objective
+
+    def read_plan(self, solver: cp_model.CpSolver) -> Plan:
+        """The plan in the solver's current solution."""
+        sources = {name: self.unit * solver.value(var) for name, var in self.source_values.items()}
+        settings: dict[str, int | str] = {}
+        for key, var in self.settings.items():
+            value = int(solver.value(var))
+            node = key.rsplit(".", 1)[0]
+            settings[key] = self.mux_inputs[node][value] if node in self.mux_inputs else value
+        return Plan(sources, settings)
+
+    def forbid_sources(self, chosen: Mapping[str, Fraction]) -> None:
+        """Exclude this combination of oscillator frequencies (to rank the next one)."""
+        differs = []
+        for name, frequency in chosen.items():
+            var = self.source_values[name]
+            value = int(frequency / self.unit)
+            if len(self.scenario.source(name).candidates) == 1:
+                continue
+            flag = self.model.new_bool_var(f"differs[{name}]")
+            self.model.add(var != value).only_enforce_if(flag)
+            self.model.add(var == value).only_enforce_if(~flag)
+            differs.append(flag)
+        if differs:
+            self.model.add_bool_or(differs)
+        else:
+            self.model.add_bool_or([])  # nothing left to choose: no further plan exists
+
+
+def build_model(scenario: Scenario) -> ClockModel:
+    """Translate ``scenario`` into a CP-SAT model."""
+    return _Builder(scenario).build()
+
+
+class _Builder:
+    def __init__(self, scenario: Scenario) -> None:
+        self.scenario = scenario
+        self.model = cp_model.CpModel()
+        self.unit = _common_unit(frequency for s in scenario.sources for frequency in s.candidates)
+        self.amount: dict[str, _Term] = {}
+        self.count: dict[str, _Term] = {}
+        self.roots: dict[str, dict[str, cp_model.LinearExprT | bool]] = {}
+        self.rates: list[_Rate] = []
+        self.handles = ClockModel(
+            scenario, self.model, self.unit, 0, self.model.new_int_var(0, 0, "unset")
+        )
+
+    # -- variables -----------------------------------------------------------------------------
+
+    def choice(self, name: str, values: Divisors) -> cp_model.IntVar:
+        """An integer variable over an allowed-value set."""
+        if isinstance(values, range) and values.step == 1:
+            return self.model.new_int_var(values.start, values.stop - 1, name)
+        domain = cp_model.Domain.from_values(list(values))
+        return self.model.new_int_var_from_domain(domain, name)
+
+    def product(self, left: _Term, right: _Term, name: str) -> _Term:
+        """left × right as a term: linear when one side is constant, else a new variable."""
+        low, high = left.low * right.low, left.high * right.high
+        _check(high, name)
+        if left.constant:
+            return _Term(left.low * right.expr, low, high)
+        if right.constant:
+            return _Term(right.low * left.expr, low, high)
+        var = self.model.new_int_var(low, high, name)
+        self.model.add_multiplication_equality(var, [left.expr, right.expr])
+        return _Term(var, low, high)
+
+    def bounded(self, term: _Term, low: int, high: int, name: str) -> _Term:
+        """The same value with tighter bounds (a fresh variable when it pays)."""
+        low, high = max(low, term.low), min(high, term.high)
+        if low > high:
+            low, high = term.low, term.low - 1  # empty: the model is infeasible, CP-SAT says so
+        if term.constant:
+            if low > high:
+                self.model.add_bool_or([])
+            return term
+        var = self.model.new_int_var(low, max(low, high), name) if low <= high else None
+        if var is None:
+            self.model.add_bool_or([])
+            return term
+        self.model.add(var == term.expr)
+        return _Term(var, low, high)
+
+    # -- limits --------------------------------------------------------------------------------
+
+    def frequency_between(
+        self, node: str, amount: _Term, count: _Term, low: Fraction | None, high: Fraction | None
+    ) -> None:
+        """low ≤ unit · amount / count ≤ high, as exact integer inequalities."""
+        for bound, sense in ((low, 1), (high, -1)):
+            if bound is None or bound <= 0 and sense == 1:
+                continue
+            ratio = bound / self.unit  # amount vs ratio · count
+            _check(ratio.denominator * amount.high, node)
+            _check(ratio.numerator * count.high, node)
+            left = ratio.denominator * amount.expr
+            right = ratio.numerator * count.expr
+            self.model.add(left >= right if sense == 1 else left <= right)
+
+    # -- nodes ---------------------------------------------------------------------------------
+
+    def build(self) -> ClockModel:
+        scenario = self.scenario
+        plls = {pll.name: pll for pll in scenario.plls}
+        dividers = {divider.name: divider for divider in scenario.dividers}
+        muxes = {mux.name: mux for mux in scenario.muxes}
+        for name in evaluation_order(scenario):
+            if name in plls:
+                self.add_pll(plls[name])
+            elif name in dividers:
+                self.add_divider(dividers[name])
+            elif name in muxes:
+                self.add_mux(muxes[name])
+            else:
+                self.add_source(name)
+        for peripheral in scenario.peripherals:
+            for requirement in peripheral.requirements:
+                self.add_rate(requirement, peripheral.clock)
+        self.add_objective()
+        return self.handles
+
+    def add_source(self, name: str) -> None:
+        source = self.scenario.source(name)
+        values = sorted({int(frequency / self.unit) for frequency in source.candidates})
+        _check(values[-1], name)
+        var = self.model.new_int_var_from_domain(cp_model.Domain.from_values(values), f"x[{name}]")
+        self.handles.source_values[name] = var
+        if len(values) > 1 and self.handles.preference is None:
+            order = [int(frequency / self.unit) for frequency in source.candidates]
+            position = self.model.new_int_var(0, len(order) - 1, f"preference[{name}]")
+            self.model.add_element(position, order, var)
+            self.handles.preference = position
+        self.amount[name] = _Term(var, values[0], values[-1])
+        self.count[name] = _Term(1, 1, 1)
+        self.roots[name] = {name: True}
+
+    def add_pll(self, pll) -> None:  # type: ignore[no-untyped-def]
+        reference_key, multiplier_key, fraction_key = pll_keys(pll.name)
+        reference = self.choice(reference_key, pll.reference_divider)
+        whole = self.choice(multiplier_key, pll.multiplier)
+        self.handles.settings[reference_key] = reference
+        self.handles.settings[multiplier_key] = whole
+        modulus = 2**pll.fraction_bits
+        feedback = _Term(
+            modulus * whole, modulus * min(pll.multiplier), modulus * max(pll.multiplier)
+        )
+        if pll.fraction_bits:
+            fraction = self.model.new_int_var(0, modulus - 1, fraction_key)
+            self.handles.settings[fraction_key] = fraction
+            feedback = _Term(feedback.expr + fraction, feedback.low, feedback.high + modulus - 1)
+        amount_in, count_in = self.amount[pll.input], self.count[pll.input]
+        divided = self.product(
+            count_in,
+            _Term(reference, min(pll.reference_divider), max(pll.reference_divider)),
+            f"count_pfd[{pll.name}]",
+        )
+        self.frequency_between(f"{pll.name} PFD", amount_in, divided, *pll.pfd)
+        amount = self.product(amount_in, feedback, f"amount[{pll.name}]")
+        count = self.product(divided, _Term(modulus, modulus, modulus), f"count[{pll.name}]")
+        self.frequency_between(f"{pll.name} VCO", amount, count, *pll.vco)
+        self.amount[pll.name], self.count[pll.name] = amount, count
+        self.roots[pll.name] = self.roots[pll.input]
+
+    def add_divider(self, divider) -> None:  # type: ignore[no-untyped-def]
+        key = f"{divider.name}.divide"
+        value = self.choice(key, divider.divide)
+        self.handles.settings[key] = value
+        count = self.product(
+            self.count[divider.input],
+            _Term(value, min(divider.divide), max(divider.divide)),
+            f"count[{divider.name}]",
+        )
+        amount = self.amount[divider.input]
+        self.frequency_between(divider.name, amount, count, divider.minimum, divider.maximum)
+        self.amount[divider.name], self.count[divider.name] = amount, count
+        self.roots[divider.name] = self.roots[divider.input]
+        if divider.fastest:
+            self.add_fastest(divider.name, amount, count, divider.maximum)
+
+    def add_mux(self, mux) -> None:  # type: ignore[no-untyped-def]
+        key = f"{mux.name}.input"
+        selector = self.model.new_int_var(0, len(mux.inputs) - 1, key)
+        self.handles.settings[key] = selector
+        self.handles.mux_inputs[mux.name] = mux.inputs
+        amounts = [self.amount[name] for name in mux.inputs]
+        counts = [self.count[name] for name in mux.inputs]
+        amount_var = self.model.new_int_var(
+            min(t.low for t in amounts), max(t.high for t in amounts), f"amount[{mux.name}]"
+        )
+        count_var = self.model.new_int_var(
+            min(t.low for t in counts), max(t.high for t in counts), f"count[{mux.name}]"
+        )
+        roots: dict[str, list[cp_model.LinearExprT]] = {}
+        for index, name in enumerate(mux.inputs):
+            chosen = self.model.new_bool_var(f"{mux.name}.chooses[{name}]")
+            self.model.add(selector == index).only_enforce_if(chosen)
+            self.model.add(selector != index).only_enforce_if(~chosen)
+            self.model.add(amount_var == amounts[index].expr).only_enforce_if(chosen)
+            self.model.add(count_var == counts[index].expr).only_enforce_if(chosen)
+            for root, active in self.roots[name].items():
+                if active is True:
+                    roots.setdefault(root, []).append(chosen)
+                else:
+                    both = self.model.new_bool_var(f"{mux.name}.via[{name},{root}]")
+                    self.model.add_multiplication_equality(both, [chosen, active])
+                    roots.setdefault(root, []).append(both)
+        amount = _Term(amount_var, _lower(amount_var), _upper(amount_var))
+        count = _Term(count_var, _lower(count_var), _upper(count_var))
+        self.frequency_between(mux.name, amount, count, None, mux.maximum)
+        self.amount[mux.name], self.count[mux.name] = amount, count
+        self.roots[mux.name] = {}
+        for root, ways in roots.items():
+            flag = self.model.new_bool_var(f"{mux.name}.from[{root}]")
+            self.model.add(flag == sum(ways))
+            self.roots[mux.name][root] = flag
+
+    def add_fastest(self, name: str, amount: _Term, count: _Term, maximum: Fraction | None) -> None:
+        high = maximum if maximum is not None else self.unit * Fraction(amount.high, count.low)
+        hertz = self.model.new_int_var(0, math.floor(high), f"hertz[{name}]")
+        scaled = self.product(_Term(hertz, 0, math.floor(high)), count, f"hertz_count[{name}]")
+        # hertz ≤ unit · amount / count, so hertz is the clock's floor once maximised.
+        _check(self.unit.denominator * scaled.high, name)
+        self.model.add(self.unit.denominator * scaled.expr <= self.unit.numerator * amount.expr)
+        self.handles.fastest.append(hertz)
+
+    # -- rates ---------------------------------------------------------------------------------
+
+    def add_rate(self, requirement: Requirement, node: str) -> None:
+        amount, count_in = self.amount[node], self.count[node]
+        target = requirement.target
+        widest = requirement.allowance
+        # achieved / target = (unit·numerator·amount) / (target·count·divisor)
+        top = self.unit.numerator * target.denominator * requirement.numerator
+        scale = target.numerator * self.unit.denominator
+        _check(top * amount.high, requirement.setting)
+        divisor = self.choice(requirement.setting, requirement.divisors)
+        self.handles.settings[requirement.setting] = divisor
+        count = self.product(
+            count_in,
+            _Term(divisor, min(requirement.divisors), max(requirement.divisors)),
+            f"count[{requirement.setting}]",
+        )
+        # |error| ≤ allowance bounds the count: scale·count within top·amount / (1 ± allowance).
+        low = math.ceil(Fraction(top * amount.low, scale) / (1 + widest))
+        high = (
+            math.floor(Fraction(top * amount.high, scale) / (1 - widest))
+            if widest < 1
+            else count.high
+        )
+        count = self.bounded(count, low, high, f"count_bounded[{requirement.setting}]")
+        _check(scale * count.high, requirement.setting)
+        deviation = top * amount.expr - scale * count.expr
+        # the hard limit keeps |deviation| ≤ allowance · scale · count
+        bound = math.ceil(widest * scale * count.high)
+        self.rates.append(_Rate(requirement, node, divisor, count, bound, scale, deviation))
+
+    def add_objective(self) -> None:
+        precision = self.choose_precision()
+        self.handles.precision = precision
+        worst = self.model.new_int_var(0, SHARE_STEPS, "worst_share_steps")
+        self.handles.worst = worst
+        power = 10**precision
+        for rate in self.rates:
+            share = self.model.new_int_var(
+                0, SHARE_STEPS, f"share_steps[{rate.requirement.setting}]"
+            )
+            self.model.add(share <= worst)
+            self.handles.shares.append(share)
+            requirement = rate.requirement
+            magnitude = self.model.new_int_var(
+                0, rate.deviation_bound, f"abs_deviation[{requirement.setting}]"
+            )
+            self.model.add_abs_equality(magnitude, rate.deviation)
+            denominator = rate.scale * rate.count.expr
+            steps_high = math.ceil(power * requirement.allowance) + 1
+            steps = self.model.new_int_var(0, steps_high, f"error_steps[{requirement.setting}]")
+            # steps = ceil(power · |deviation| / (scale · count)): the error rounded up.
+            self.model.add_division_equality(
+                steps, power * magnitude + denominator - 1, denominator
+            )
+            for root, active in self.roots[rate.node].items():
+                budget = self.scenario.source(root).budget
+                room = requirement.allowance - budget
+                enforce = [] if active is True else [active]
+                if room < 0:
+                    self.model.add_bool_or([~a for a in enforce])  # this source can never serve it
+                    continue
+                # hard: |error| ≤ allowance − budget
+                self.model.add(
+                    room.denominator * magnitude <= room.numerator * denominator
+                ).only_enforce_if(enforce)
+                # worst ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly in integers
+                allowance = requirement.allowance
+                left = allowance.numerator * budget.denominator * power
+                right_steps = SHARE_STEPS * allowance.denominator * budget.denominator
+                right_const = SHARE_STEPS * allowance.denominator * budget.numerator * power
+                _check(left * SHARE_STEPS, requirement.setting)
+                _check(right_steps * steps_high + right_const, requirement.setting)
+                self.model.add(left * share >= right_steps * steps + right_const).only_enforce_if(
+                    enforce
+                )
+            rate.error_steps = steps
+
+    def choose_precision(self) -> int:
+        """The finest 10**-p for synthesis errors that keeps every term below LIMIT."""
+        for precision in range(MAX_PRECISION, -1, -1):
+            power = 10**precision
+            fits = True
+            for rate in self.rates:
+                requirement = rate.requirement
+                if power * rate.deviation_bound + rate.scale * rate.count.high >= LIMIT:
+                    fits = False
+                    break
+                steps_high = math.ceil(power * requirement.allowance) + 1
+                for root in self.roots[rate.node]:
+                    budget = self.scenario.source(root).budget
+                    allowance = requirement.allowance
+                    terms = (
+                        allowance.numerator * budget.denominator * power * SHARE_STEPS,
+                        SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
+                        + SHARE_STEPS * allowance.denominator * budget.numerator * power,
+                    )
+                    if max(terms) >= LIMIT:
+                        fits = False
+                if not fits:
+                    break
+            if fits:
+                return precision
+        raise ModelTooLargeError(
+            "the scenario's numbers are too large for 64-bit integers even at whole-unit error "
+            "precision; narrow the divider ranges or fraction bits"
+        )
+
+
+def _common_unit(frequencies: Iterable[Fraction]) -> Fraction:
+    """The largest exact unit that every candidate frequency is a whole multiple of."""
+    numerator, denominator = 0, 1
+    for frequency in frequencies:
+        numerator = math.gcd(numerator, frequency.numerator)
+        denominator = math.lcm(denominator, frequency.denominator)
+    return Fraction(numerator, denominator)
+
+
+def _check(value: int, where: str) -> None:
+    if abs(value) >= LIMIT:
+        raise ModelTooLargeError(
+            f"{where}: the model would need integers of {value.bit_length()} bits (at most 62); "
+            "narrow its ranges, fraction bits or the candidate frequencies"
+        )
+
+
+def _lower(var: cp_model.IntVar) -> int:
+    return int(list(var.proto.domain)[0])
+
+
+def _upper(var: cp_model.IntVar) -> int:
+    """Largest value of ``var`` (the proto's repeated field does not index from the end)."""
+    return int(list(var.proto.domain)[-1])

@@ -1,0 +1,144 @@
+"""Reference oscillators: their kinds, candidate frequencies and error budgets.
+
+A source's budget is the sum of its initial tolerance, its stability over the
+operating temperature range and its aging over the product's life: the worst
+case the board will see. The root-sum-square of the same terms is shown beside it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from fractions import Fraction
+
+__all__ = ["SourceKind", "SOURCE_KINDS", "Source", "Conditions", "tuning_fork_offset"]
+
+
+@dataclass(frozen=True)
+class SourceKind:
+    """Default figures for one kind of oscillator; a scenario may override each."""
+
+    name: str
+    description: str
+    tolerance: Fraction
+    """Initial tolerance at 25 °C, as a ratio."""
+    stability: Fraction
+    """Band over the default operating temperature range, as a ratio."""
+    aging_per_year: Fraction
+    """Aging per year of service, as a ratio (the first year's figure, applied linearly)."""
+
+
+_PPM = Fraction(1, 10**6)
+_PERCENT = Fraction(1, 100)
+
+SOURCE_KINDS: dict[str, SourceKind] = {
+    kind.name: kind
+    for kind in (
+        # Typical figures, facts sheet §6.1 ranges; common practice, no source.
+        SourceKind(
+            "crystal",
+            "AT-cut quartz crystal with the chip's Pierce amplifier",
+            20 * _PPM,
+            30 * _PPM,
+            3 * _PPM,
+        ),
+        SourceKind(
+            "tuning-fork",
+            "32.768 kHz tuning-fork crystal (parabolic temperature curve)",
+            20 * _PPM,
+            Fraction(0),
+            3 * _PPM,
+        ),
+        SourceKind(
+            "ceramic",
+            "ceramic resonator",
+            5 * Fraction(1, 1000),
+            3 * Fraction(1, 1000),
+            1 * Fraction(1, 1000),
+        ),
+        SourceKind(
+            "oscillator", "packaged quartz oscillator module", Fraction(0), 50 * _PPM, 3 * _PPM
+        ),
+        SourceKind(
+            "tcxo",
+            "temperature-compensated crystal oscillator",
+            2 * _PPM,
+            Fraction(5, 2) * _PPM,
+            1 * _PPM,
+        ),
+        SourceKind("mems", "MEMS oscillator", Fraction(0), 25 * _PPM, 1 * _PPM),
+        SourceKind(
+            "internal-rc",
+            "the chip's own trimmed RC oscillator",
+            1 * _PERCENT,
+            2 * _PERCENT,
+            Fraction(0),
+        ),
+        SourceKind("rc", "discrete RC oscillator", 5 * _PERCENT, 2 * _PERCENT, Fraction(0)),
+        SourceKind("lc", "LC oscillator", 3 * _PERCENT, 1 * _PERCENT, Fraction(0)),
+    )
+}
+"""Every source kind a scenario may name, with its default budget."""
+
+
+TUNING_FORK_COEFFICIENT = Fraction(-34, 1000) * _PPM
+"""Parabolic coefficient per °C² of a 32.768 kHz tuning fork: typical −0.034 ppm/°C², from memory."""
+TUNING_FORK_TURNOVER = Fraction(25)
+"""Turnover temperature in °C; typical, from memory."""
+
+
+@dataclass(frozen=True)
+class Conditions:
+    """Where and how long the board runs."""
+
+    temperature: tuple[Fraction, Fraction] = (Fraction(-20), Fraction(70))
+    """Operating temperature range in °C."""
+    years: Fraction = Fraction(5)
+    """Years of service that aging must cover."""
+
+
+def tuning_fork_offset(
+    temperature: Fraction,
+    coefficient: Fraction = TUNING_FORK_COEFFICIENT,
+    turnover: Fraction = TUNING_FORK_TURNOVER,
+) -> Fraction:
+    """Relative frequency offset k·(T − T0)² of a tuning fork at ``temperature`` (°C)."""
+    return coefficient * (temperature - turnover) ** 2
+
+
+@dataclass(frozen=True)
+class Source:
+    """One reference oscillator of a scenario and the frequencies the search may give it."""
+
+    name: str
+    kind: str
+    candidates: tuple[Fraction, ...]
+    """Candidate frequencies in hertz, in preference order (ties go to the earlier one)."""
+    tolerance: Fraction
+    """Initial tolerance at 25 °C, as a ratio."""
+    stability: Fraction
+    """Band over the operating temperature range, as a ratio."""
+    aging: Fraction
+    """Aging over the years of service, as a ratio."""
+    pulling: Fraction = Fraction(0)
+    """Offset from load-capacitance mismatch, as a ratio (zero when the circuit is not given)."""
+
+    @property
+    def terms(self) -> dict[str, Fraction]:
+        """The budget's terms by name, as ratios."""
+        return {
+            "tolerance": self.tolerance,
+            "stability": self.stability,
+            "aging": self.aging,
+            "pulling": self.pulling,
+        }
+
+    @property
+    def budget(self) -> Fraction:
+        """Worst-case relative error of this source: the sum of its terms."""
+        return sum(self.terms.values(), Fraction(0))
+
+    @property
+    def budget_rss(self) -> float:
+        """Root-sum-square of the terms: a statistical figure, shown beside the worst case."""
+        return math.sqrt(sum(float(term) ** 2 for term in self.terms.values()))

@@ -1,0 +1,125 @@
+from fractions import Fraction
+
+import pytest
+
+from clockplan.quantities import (
+    QuantityError,
+    exact_string,
+    format_hz,
+    parse_exact_string,
+    parse_frequency,
+    parse_frequency_range,
+    parse_integer_choices,
+    parse_quantity,
+    parse_relative,
+)
+
+
+@pytest.mark.parametrize(
+    ("text", "hertz"),
+    [
+        ("11.0592 MHz", Fraction(11_059_200)),
+        ("32.768 kHz", Fraction(32_768)),
+        ("1 GHz", Fraction(10**9)),
+        ("0.5 Hz", Fraction(1, 2)),
+        ("12MHz", Fraction(12_000_000)),
+        ("12 mhz", Fraction(12_000_000)),
+        ("1e6 Hz", Fraction(10**6)),
+    ],
+)
+def test_frequencies_parse_exactly(text, hertz):
+    assert parse_frequency(text) == hertz
+    assert isinstance(parse_frequency(text), Fraction)
+
+
+@pytest.mark.parametrize(
+    ("text", "ratio"),
+    [
+        ("20 ppm", Fraction(20, 10**6)),
+        ("0.5 %", Fraction(1, 200)),
+        ("0.25%", Fraction(1, 400)),
+        ("500 ppb", Fraction(1, 2_000_000)),
+    ],
+)
+def test_relative_quantities_parse_exactly(text, ratio):
+    assert parse_relative(text) == ratio
+
+
+@pytest.mark.parametrize(
+    ("text", "message"),
+    [
+        ("12", "has no unit"),
+        ("12 mHz", "expected one of"),
+        ("12 MHzz", "expected one of"),
+        ("-3 MHz", "not a positive frequency"),
+        ("0 Hz", "not a positive frequency"),
+        ("twelve MHz", "is not a frequency"),
+        (12, "has no unit"),
+        ([1], "is not a frequency"),
+    ],
+)
+def test_bad_frequencies_say_what_was_expected(text, message):
+    with pytest.raises(QuantityError, match=message):
+        parse_frequency(text)
+
+
+def test_negative_relative_is_refused():
+    with pytest.raises(QuantityError, match="negative"):
+        parse_relative("-20 ppm")
+
+
+def test_a_plain_number_takes_the_bare_unit_when_one_is_given():
+    assert parse_quantity(15, "capacitance", bare_unit="pF") == Fraction(15, 10**12)
+
+
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [
+        ("1..4", range(1, 5)),
+        ("pow2 0..3", (1, 2, 4, 8)),
+        ("pow2 15", (32768,)),
+        ([6, 2, 4, 2], (2, 4, 6)),
+        (7, (7,)),
+    ],
+)
+def test_integer_choices(value, expected):
+    assert tuple(parse_integer_choices(value)) == tuple(expected)
+
+
+@pytest.mark.parametrize(
+    ("value", "message"),
+    [
+        ("9..3", "backwards"),
+        ([], "empty"),
+        ("pow2 70", "2\\*\\*62"),
+        ("0..4", "below"),
+        ("1..99999999", "at most"),
+        ([1.5], "whole numbers"),
+        (True, "not a whole number"),
+    ],
+)
+def test_bad_integer_choices(value, message):
+    with pytest.raises(QuantityError, match=message):
+        parse_integer_choices(value)
+
+
+def test_frequency_range_runs_low_to_high():
+    assert parse_frequency_range("1 MHz .. 2 MHz") == (10**6, 2 * 10**6)
+    with pytest.raises(QuantityError, match="backwards"):
+        parse_frequency_range("2 MHz .. 1 MHz")
+
+
+@pytest.mark.parametrize("value", [Fraction(48_000_000), Fraction(8_400_000, 73)])
+def test_exact_strings_round_trip(value):
+    assert parse_exact_string(exact_string(value)) == value
+
+
+def test_exact_string_forms():
+    assert exact_string(Fraction(48_000_000)) == "48000000"
+    assert exact_string(Fraction(8_400_000, 73)) == "8400000/73"
+
+
+def test_format_hz_picks_a_readable_unit():
+    assert format_hz(11_059_200) == "11.0592 MHz"
+    assert format_hz(32_768) == "32.768 kHz"
+    assert format_hz(1) == "1 Hz"

@@ -1,0 +1,172 @@
+"""The solver against the brute-force oracle, the evaluator, and worked examples."""
+
+from fractions import Fraction
+
+import pytest
+
+from clockplan.evaluate import evaluate_plan
+from clockplan.solve import Status, search
+from tests.conftest import scenario_from
+from tests.oracle import best_key
+
+SMALL = {
+    "uart-only": """
+        [sources.main]
+        kind = "crystal"
+        choose = ["8 MHz", "11.0592 MHz", "12 MHz"]
+        [dividers.bus]
+        from = "main"
+        divide = "pow2 0..3"
+        [peripherals.console]
+        kind = "uart"
+        from = "bus"
+        baud = [115200, 9600]
+        divisor = "1..64"
+    """,
+    "pll-usb": """
+        [sources.main]
+        kind = "crystal"
+        choose = ["8 MHz", "12 MHz", "25 MHz"]
+        [plls.system]
+        from = "main"
+        reference_divider = "1..6"
+        pfd = "1 MHz .. 5 MHz"
+        multiplier = "20..60"
+        vco = "96 MHz .. 240 MHz"
+        [dividers.usb_clock]
+        from = "system"
+        divide = "2..5"
+        [peripherals.usb]
+        kind = "usb-full-speed"
+        from = "usb_clock"
+    """,
+    "mux-two-sources": """
+        [sources.main]
+        kind = "crystal"
+        choose = ["4 MHz", "6 MHz"]
+        [sources.slow]
+        kind = "tuning-fork"
+        choose = ["32.768 kHz"]
+        [dividers.fast]
+        from = "main"
+        divide = [1, 2, 4]
+        [muxes.tick_input]
+        from = ["fast", "slow"]
+        [peripherals.tick]
+        kind = "tick"
+        from = "tick_input"
+        chain = "pow2 10..15"
+        allowance = "500 ppm"
+    """,
+    "fixed-rate-max": """
+        [sources.main]
+        kind = "oscillator"
+        choose = ["10 MHz", "16 MHz", "20 MHz"]
+        [dividers.adc]
+        from = "main"
+        divide = "1..8"
+        max = "4 MHz"
+        [peripherals.sampler]
+        kind = "clock"
+        from = "adc"
+        rate = "2.5 MHz"
+        allowance = "1 %"
+    """,
+    "fractional": """
+        [sources.main]
+        kind = "tcxo"
+        choose = ["12 MHz", "13 MHz"]
+        [plls.audio]
+        from = "main"
+        reference_divider = "1..2"
+        pfd = "5 MHz .. 13 MHz"
+        multiplier = "14..18"
+        fraction_bits = 3
+        vco = "150 MHz .. 220 MHz"
+        [dividers.master]
+        from = "audio"
+        divide = "14..16"
+        [peripherals.codec]
+        kind = "clock"
+        from = "master"
+        rate = "12.288 MHz"
+        allowance = "2000 ppm"
+    """,
+}
+
+
+@pytest.mark.parametrize("name", sorted(SMALL))
+def test_solver_optimum_equals_the_brute_force_oracle(name):
+    scenario = scenario_from(SMALL[name], f"{name}.toml")
+    result = search(scenario, top=1, time_limit=30)
+    oracle = best_key(scenario, result.precision)
+    assert oracle is not None
+    assert result.status is Status.OPTIMAL
+    best = result.plans[0]
+    assert best.worst_steps == oracle[0]
+    # the exact share of the solver's plan is within one objective step of the oracle's best
+    assert best.evaluation.worst_share - oracle[1] < Fraction(1, 10_000)
+    assert best.evaluation.feasible
+
+
+@pytest.mark.parametrize("name", sorted(SMALL))
+def test_every_ranked_plan_passes_the_independent_evaluator(name):
+    scenario = scenario_from(SMALL[name], f"{name}.toml")
+    result = search(scenario, top=3, time_limit=30)
+    seen = set()
+    for ranked in result.plans:
+        evaluation = evaluate_plan(scenario, ranked.plan)
+        assert evaluation.violations == ()
+        assert evaluation.feasible
+        key = tuple(sorted(ranked.plan.sources.items()))
+        assert key not in seen  # one plan per choice of oscillator frequencies
+        seen.add(key)
+    shares = [ranked.worst_steps for ranked in result.plans]
+    assert shares == sorted(shares)
+
+
+def test_same_file_same_plans():
+    scenario = scenario_from(SMALL["pll-usb"])
+    first = search(scenario, top=3)
+    second = search(scenario, top=3)
+    assert [r.plan for r in first.plans] == [r.plan for r in second.plans]
+
+
+def test_no_plan_is_proved_infeasible():
+    text = (
+        SMALL["pll-usb"]
+        .replace('choose = ["8 MHz", "12 MHz", "25 MHz"]', 'choose = ["7 MHz"]')
+        .replace('reference_divider = "1..6"', "reference_divider = 1")
+        .replace('multiplier = "20..60"', 'multiplier = "20..21"')
+    )
+    result = search(scenario_from(text), top=2)
+    assert result.status is Status.INFEASIBLE
+    assert result.plans == ()
+
+
+def test_usb_48_mhz_exactly_from_25_mhz():
+    # Worked by hand: 25 MHz ÷ 25 = 1 MHz PFD (inside 1–2 MHz); × 192 = 192 MHz VCO
+    # (inside 100–432 MHz, multiplier inside 50–432); ÷ 4 = 48 MHz exactly.
+    # Source: USB 2.0 §7.1.11 gives the ±0.25 % the 48 MHz clock must hold.
+    scenario = scenario_from("""
+        [sources.main]
+        kind = "crystal"
+        choose = ["25 MHz"]
+        [plls.system]
+        from = "main"
+        reference_divider = "1..63"
+        pfd = "1 MHz .. 2 MHz"
+        multiplier = "50..432"
+        vco = "100 MHz .. 432 MHz"
+        [dividers.usb_clock]
+        from = "system"
+        divide = "2..15"
+        [peripherals.usb]
+        kind = "usb-full-speed"
+        from = "usb_clock"
+    """)
+    best = search(scenario, top=1).plans[0]
+    (check,) = best.evaluation.checks
+    assert check.achieved == 48_000_000
+    assert check.error == 0
+    assert check.requirement.allowance == Fraction(25, 10_000)
