@@ -39,9 +39,17 @@ def share_text(share: Fraction) -> Text:
 
 def ranking_table(result: SearchResult) -> Table:
     """The ranked plans, one row per choice of oscillator frequencies."""
-    table = Table(title=f"{result.scenario.title}: ranked clock plans", title_justify="left")
+    fixed = [source for source in result.scenario.sources if len(source.candidates) == 1]
+    chosen = [source.name for source in result.scenario.sources if len(source.candidates) > 1]
+    caption = ", ".join(f"{source.name} {format_hz(source.candidates[0])}" for source in fixed)
+    table = Table(
+        title=f"{result.scenario.title}: ranked clock plans",
+        title_justify="left",
+        caption=f"fixed oscillators: {caption}" if caption else None,
+        caption_justify="left",
+    )
     table.add_column("#", justify="right")
-    table.add_column("oscillators")
+    table.add_column(", ".join(chosen) or "oscillators")
     table.add_column("worst share", justify="right")
     table.add_column("worst error", justify="right")
     table.add_column("limited by")
@@ -51,9 +59,7 @@ def ranking_table(result: SearchResult) -> Table:
     for ranked in result.plans:
         evaluation = ranked.evaluation
         worst = evaluation.worst
-        oscillators = ", ".join(
-            f"{name} {format_hz(hz)}" for name, hz in ranked.plan.sources.items()
-        )
+        oscillators = ", ".join(format_hz(ranked.plan.sources[name]) for name in chosen) or "-"
         clocks = (
             ", ".join(f"{name} {format_hz(evaluation.clocks[name])}" for name in fastest) or "-"
         )

@@ -125,11 +125,12 @@ def test_every_ranked_plan_passes_the_independent_evaluator(name):
     assert shares == sorted(shares)
 
 
-def test_same_file_same_plans():
-    scenario = scenario_from(SMALL["pll-usb"])
-    first = search(scenario, top=3)
-    second = search(scenario, top=3)
-    assert [r.plan for r in first.plans] == [r.plan for r in second.plans]
+@pytest.mark.parametrize("name", sorted(SMALL))
+def test_same_file_same_plans_whatever_the_worker_count(name):
+    scenario = scenario_from(SMALL[name])
+    runs = [search(scenario, top=3, workers=workers) for workers in (1, 2, 8, 8)]
+    plans = [[ranked.plan for ranked in run.plans] for run in runs]
+    assert all(other == plans[0] for other in plans[1:])
 
 
 def test_no_plan_is_proved_infeasible():

@@ -87,21 +87,31 @@ class ClockModel:
     """Position of the chosen frequency in the first choosing source's list (last tie-breaker)."""
 
     def tie_breaker(self) -> cp_model.LinearExprT:
-        """Fastest clocks first, then the smallest sum of shares, then the earlier candidate.
+        """Fastest clocks, then the smallest sum of shares, the earlier candidate, smaller settings.
 
-        Weighted so that each term outranks everything after it (a lexicographic order).
+        Weighted so that each term outranks everything after it (a lexicographic order);
+        a term whose weight would overflow 64 bits is left out, with every term after it.
         """
-        share_span = SHARE_STEPS * len(self.shares) + 1
-        preference_span = 1
+        terms: list[tuple[cp_model.LinearExprT, int]] = []  # (expression to maximise, span)
+        if self.fastest:
+            terms.append((sum(self.fastest), sum(_upper(var) for var in self.fastest) + 1))
+        terms.append((-sum(self.shares), SHARE_STEPS * len(self.shares) + 1))
         if self.preference is not None:
-            preference_span = _upper(self.preference) + 1
-        fastest_high = sum(_upper(var) for var in self.fastest)
-        if (fastest_high + 1) * share_span * preference_span >= LIMIT:
-            preference_span = 1  # too many candidates to weigh; CP-SAT's own order decides
-        objective = sum(self.fastest) * share_span * preference_span
-        objective -= sum(self.shares) * preference_span
-        if preference_span > 1 and self.preference is not None:
-            objective -= self.preference
+            terms.append((-self.preference, _upper(self.preference) + 1))
+        settings = list(self.settings.values())
+        terms.append((-sum(settings), sum(_upper(var) for var in settings) + 1))
+        objective: cp_model.LinearExprT = 0
+        weight = 1
+        kept = []
+        for expression, span in terms:
+            if weight * span >= LIMIT:
+                break
+            kept.append((expression, span))
+            weight *= span
+        weight = 1
+        for expression, span in reversed(kept):
+            objective += weight * expression
+            weight *= span
         return objective
 
     def read_plan(self, solver: cp_model.CpSolver) -> Plan:

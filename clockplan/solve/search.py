@@ -4,8 +4,9 @@ Rank 1 is the proven best plan overall; rank k is the proven best plan among the
 oscillator choices not yet ranked. Each rank is solved in two stages: first the
 worst share of an allowance is minimised; then, holding it, the tie-breakers in
 order: clocks marked "fastest" as fast as allowed, the smallest sum of every
-rate's share, the earlier candidate frequency (catalog or list order). CP-SAT
-runs with one worker and a fixed seed, so the same file gives the same plans.
+rate's share, the earlier candidate frequency (catalog or list order), the
+smallest sum of settings. Both stages are proved optimal, so the plan does not
+depend on how many workers CP-SAT runs, save for exact ties on all of these.
 """
 
 from __future__ import annotations
@@ -26,6 +27,8 @@ __all__ = ["Status", "RankedPlan", "SearchResult", "search", "DEFAULT_TIME_LIMIT
 
 DEFAULT_TIME_LIMIT = 60.0
 """Seconds the whole search may take unless the caller says otherwise."""
+DEFAULT_WORKERS = 8
+"""CP-SAT search workers (threads); its portfolio pays even on two cores."""
 
 
 class Status(StrEnum):
@@ -82,6 +85,7 @@ def search(
     *,
     top: int = 5,
     time_limit: float = DEFAULT_TIME_LIMIT,
+    workers: int = DEFAULT_WORKERS,
     progress: Callable[[int, int], None] | None = None,
 ) -> SearchResult:
     """Rank up to ``top`` plans, each for a different choice of oscillator frequencies."""
@@ -94,7 +98,7 @@ def search(
     for rank in range(1, top + 1):
         if progress:
             progress(rank - 1, top)
-        found = _solve_rank(handles, deadline)
+        found = _solve_rank(handles, deadline, workers)
         if found is None:
             break
         plan, rank_status, steps, limited = found
@@ -117,24 +121,24 @@ def search(
     )
 
 
-def _solve_rank(handles: ClockModel, deadline: float) -> tuple[Plan, Status, int, bool] | None:
+def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> tuple[Plan, Status, int, bool] | None:
     model = handles.model
     model.clear_hints()
     model.minimize(handles.worst)
-    first = _run(model, deadline)
+    first = _run(model, deadline, workers)
     status = _STATUS.get(first.status, Status.UNKNOWN)
     limited = first.status == cp_model.UNKNOWN or first.status == cp_model.FEASIBLE
     if status in (Status.INFEASIBLE, Status.UNKNOWN):
         return (Plan({}, {}), status, SHARE_STEPS + 1, limited)
     steps = int(first.solver.value(handles.worst))
     plan = handles.read_plan(first.solver)
-    if len(handles.shares) > 1 or handles.fastest or handles.preference is not None:
+    if handles.settings or handles.preference is not None:
         _hint(handles, first.solver)
         holding = model.new_bool_var(f"hold_worst_{steps}")
         model.add(handles.worst <= steps).only_enforce_if(holding)
         model.add_assumptions([holding])
         model.maximize(handles.tie_breaker())
-        second = _run(model, deadline)
+        second = _run(model, deadline, workers)
         model.clear_assumptions()
         if second.status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
             plan = handles.read_plan(second.solver)
@@ -150,10 +154,10 @@ class _Run:
     status: int
 
 
-def _run(model: cp_model.CpModel, deadline: float) -> _Run:
+def _run(model: cp_model.CpModel, deadline: float, workers: int) -> _Run:
     solver = cp_model.CpSolver()
     solver.parameters.max_time_in_seconds = max(0.01, deadline - time.monotonic())
-    solver.parameters.num_workers = 1
+    solver.parameters.num_workers = workers
     solver.parameters.random_seed = 1
     status = solver.solve(model)
     return _Run(solver, status)
