@@ -82,7 +82,7 @@ SOURCE_KINDS: dict[str, SourceKind] = {
 
 
 TUNING_FORK_COEFFICIENT = Fraction(-34, 1000) * _PPM
-"""Parabolic coefficient per °C² of a 32.768 kHz tuning fork: typical −0.034 ppm/°C², from memory."""
+"""Tuning-fork parabola coefficient per °C²: typical −0.034 ppm/°C², from memory."""
 TUNING_FORK_TURNOVER = Fraction(25)
 """Turnover temperature in °C; typical, from memory."""
 

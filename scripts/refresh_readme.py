@@ -24,7 +24,7 @@ BLOCK = re.compile(r"(<!-- output: (?P<command>[^>]+?) -->\n```\n)(?P<body>.*?)(
 
 
 def command_output(command: str) -> str:
-    """What ``command`` (a clockplan command line) prints, as a person's 80-column terminal shows."""
+    """What ``command`` (a clockplan command line) prints on an 80-column terminal."""
     argv = shlex.split(command)
     assert argv[0] == "clockplan", f"only clockplan commands belong in the README: {command}"
     completed = subprocess.run(

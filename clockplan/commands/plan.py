@@ -15,7 +15,7 @@ from clockplan.export import result_to_data
 from clockplan.render import ranking_table, rates_table, status_line
 from clockplan.scenario import default_scenario_path, load_scenario
 from clockplan.solve import SearchResult, Status, search
-from clockplan.solve.search import DEFAULT_TIME_LIMIT
+from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
 
 EXIT_OK, EXIT_NO_PLAN = 0, 1
 
@@ -36,7 +36,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
 
 
 def add_search_options(parser: argparse.ArgumentParser) -> None:
-    """FILE, --top and --time-limit, shared by the commands that search."""
+    """FILE, --top, --time-limit and --workers, shared by the commands that search."""
     parser.add_argument(
         "file", nargs="?", help="scenario file (TOML); default: the bundled demo board"
     )
@@ -50,17 +50,26 @@ def add_search_options(parser: argparse.ArgumentParser) -> None:
         metavar="S",
         help=f"seconds the search may take (default {DEFAULT_TIME_LIMIT:g})",
     )
+    parser.add_argument(
+        "--workers",
+        type=int,
+        default=DEFAULT_WORKERS,
+        metavar="N",
+        help=f"CP-SAT search threads (default {DEFAULT_WORKERS}); the plans do not depend on it",
+    )
 
 
 def run_search(args: argparse.Namespace, *, show_progress: bool) -> SearchResult:
     """Load the scenario named by ``args`` and search it, with a progress bar on slow runs."""
     if args.top < 1:
         raise InputError("--top", f"{args.top} is not a positive count of plans")
+    if not 1 <= args.workers <= 64:
+        raise InputError("--workers", f"{args.workers} is not a thread count from 1 to 64")
     if not args.time_limit > 0:
         raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
     scenario = load_scenario(args.file or default_scenario_path())
     if not show_progress or not sys.stderr.isatty():
-        return search(scenario, top=args.top, time_limit=args.time_limit)
+        return search(scenario, top=args.top, time_limit=args.time_limit, workers=args.workers)
     started = time.monotonic()
     with Progress(console=Console(stderr=True), transient=True) as progress:
         task = progress.add_task("searching", total=args.top, visible=False)
@@ -69,7 +78,13 @@ def run_search(args: argparse.Namespace, *, show_progress: bool) -> SearchResult
             visible = time.monotonic() - started > 1.0
             progress.update(task, completed=done, total=total, visible=visible)
 
-        return search(scenario, top=args.top, time_limit=args.time_limit, progress=report)
+        return search(
+            scenario,
+            top=args.top,
+            time_limit=args.time_limit,
+            workers=args.workers,
+            progress=report,
+        )
 
 
 def run(args: argparse.Namespace) -> int:

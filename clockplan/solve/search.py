@@ -99,8 +99,6 @@ def search(
         if progress:
             progress(rank - 1, top)
         found = _solve_rank(handles, deadline, workers)
-        if found is None:
-            break
         plan, rank_status, steps, limited = found
         time_limited |= limited
         if rank == 1:
@@ -121,7 +119,9 @@ def search(
     )
 
 
-def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> tuple[Plan, Status, int, bool] | None:
+def _solve_rank(
+    handles: ClockModel, deadline: float, workers: int
+) -> tuple[Plan, Status, int, bool]:
     model = handles.model
     model.clear_hints()
     model.minimize(handles.worst)
