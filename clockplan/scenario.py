@@ -27,7 +27,7 @@ from clockplan.quantities import (
     parse_number,
     parse_relative,
 )
-from clockplan.sources import SOURCE_KINDS, Conditions, Source, tuning_fork_offset
+from clockplan.sources import SOURCE_KINDS, Conditions, ParabolicCurve, Source
 
 __all__ = [
     "Pll",
@@ -209,7 +209,7 @@ def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
     default_stability = kind.stability
     if kind_name == "tuning-fork":
         low, high = conditions.temperature
-        default_stability = max(abs(tuning_fork_offset(t)) for t in (low, high))
+        default_stability = max(abs(offset) for offset in ParabolicCurve().extremes(low, high))
     stability = fields.take("stability", parse_relative, default_stability)
     aging = fields.take("aging", parse_relative, kind.aging_per_year * conditions.years)
     return Source(name, kind_name, candidates, tolerance, stability, aging)

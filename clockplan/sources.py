@@ -11,7 +11,15 @@ import math
 from dataclasses import dataclass
 from fractions import Fraction
 
-__all__ = ["SourceKind", "SOURCE_KINDS", "Source", "Conditions", "tuning_fork_offset"]
+__all__ = [
+    "SourceKind",
+    "SOURCE_KINDS",
+    "Source",
+    "Conditions",
+    "ParabolicCurve",
+    "TUNING_FORK_COEFFICIENT_PPM",
+    "TUNING_FORK_TURNOVER_C",
+]
 
 
 @dataclass(frozen=True)
@@ -81,10 +89,13 @@ SOURCE_KINDS: dict[str, SourceKind] = {
 """Every source kind a scenario may name, with its default budget."""
 
 
-TUNING_FORK_COEFFICIENT = Fraction(-34, 1000) * _PPM
-"""Tuning-fork parabola coefficient per °C²: typical −0.034 ppm/°C², from memory."""
-TUNING_FORK_TURNOVER = Fraction(25)
-"""Turnover temperature in °C; typical, from memory."""
+TUNING_FORK_COEFFICIENT_PPM = Fraction(-34, 1000)
+"""Typical parabolic coefficient of a 32.768 kHz tuning-fork crystal, ppm/°C².
+
+From memory (reference sheet §6.1, §6.2): −0.030 … −0.040 is seen in datasheets.
+"""
+TUNING_FORK_TURNOVER_C = Fraction(25)
+"""Typical turnover temperature of a tuning-fork crystal, °C (reference sheet §6.1)."""
 
 
 @dataclass(frozen=True)
@@ -97,13 +108,35 @@ class Conditions:
     """Years of service that aging must cover."""
 
 
-def tuning_fork_offset(
-    temperature: Fraction,
-    coefficient: Fraction = TUNING_FORK_COEFFICIENT,
-    turnover: Fraction = TUNING_FORK_TURNOVER,
-) -> Fraction:
-    """Relative frequency offset k·(T − T0)² of a tuning fork at ``temperature`` (°C)."""
-    return coefficient * (temperature - turnover) ** 2
+@dataclass(frozen=True)
+class ParabolicCurve:
+    """Tuning-fork temperature behaviour: Δf/f = k·(T − T0)²."""
+
+    coefficient_ppm: Fraction = TUNING_FORK_COEFFICIENT_PPM
+    """k, ppm per °C² (negative: the crystal slows away from the turnover)."""
+    turnover_c: Fraction = TUNING_FORK_TURNOVER_C
+    """T0, the turnover temperature, °C."""
+
+    def offset(self, temperature_c: Fraction) -> Fraction:
+        """Relative frequency offset at ``temperature_c``."""
+        return self.coefficient_ppm * (temperature_c - self.turnover_c) ** 2 * _PPM
+
+    def average_offset(self, low_c: Fraction, high_c: Fraction) -> Fraction:
+        """Mean relative offset over a uniform spread of temperatures from low to high.
+
+        The mean of (T − T0)² over [a, b] is ((b − T0)³ − (a − T0)³) / (3·(b − a)).
+        """
+        if low_c == high_c:
+            return self.offset(low_c)
+        low, high = low_c - self.turnover_c, high_c - self.turnover_c
+        return self.coefficient_ppm * (high**3 - low**3) / (3 * (high - low)) * _PPM
+
+    def extremes(self, low_c: Fraction, high_c: Fraction) -> tuple[Fraction, Fraction]:
+        """Lowest and highest relative offset over the range."""
+        offsets = [self.offset(low_c), self.offset(high_c)]
+        if low_c <= self.turnover_c <= high_c:
+            offsets.append(Fraction(0))
+        return min(offsets), max(offsets)
 
 
 @dataclass(frozen=True)
