@@ -20,7 +20,9 @@ import sys
 from pathlib import Path
 
 README = Path(__file__).resolve().parent.parent / "README.md"
-BLOCK = re.compile(r"(<!-- output: (?P<command>[^>]+?) -->\n```\n)(?P<body>.*?)(\n```)", re.S)
+BLOCK = re.compile(
+    r"(<!-- output: (?P<command>[^\n]+?) -->\n```\n)(?P<body>(?:(?!```\n).*\n)*?)(```\n)"
+)
 
 
 def command_output(command: str) -> str:
@@ -40,7 +42,9 @@ def command_output(command: str) -> str:
 
 def refreshed(text: str) -> str:
     """The README text with every marked block replaced by fresh output."""
-    return BLOCK.sub(lambda m: m.group(1) + command_output(m.group("command")) + m.group(4), text)
+    return BLOCK.sub(
+        lambda m: m.group(1) + command_output(m.group("command")) + "\n" + m.group(4), text
+    )
 
 
 def blocks(text: str) -> list[tuple[str, str]]:
