@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from fractions import Fraction
 
-from clockplan.interfaces.base import Requirement
+from clockplan.interfaces.base import Option, Requirement
 from clockplan.plan import Plan, pll_keys
 from clockplan.scenario import Scenario
 from clockplan.tree import evaluation_order
@@ -33,15 +33,24 @@ class RateCheck:
     source_budget: Fraction
     """That oscillator's worst-case relative error."""
     source_budget_rss: float
+    option: Option
+    """The way the rate is made (its divisors and allowance)."""
+
+    @property
+    def allowance(self) -> Fraction:
+        """Largest worst-case relative error allowed with the chosen option."""
+        return self.option.allowance
 
     @property
     def error(self) -> Fraction:
-        """Synthesis error: achieved / target − 1, exact."""
+        """Synthesis error: achieved / target − 1, exact (for a ceiling: below the maximum)."""
         return self.achieved / self.requirement.target - 1
 
     @property
     def worst_case(self) -> Fraction:
-        """|synthesis error| + the source's budget."""
+        """|synthesis error| + the source's budget; for a ceiling, the fastest rate it reaches."""
+        if self.requirement.ceiling:
+            return self.achieved * (1 + self.source_budget) / self.requirement.target - 1
         return abs(self.error) + self.source_budget
 
     @property
@@ -51,18 +60,27 @@ class RateCheck:
 
     @property
     def share(self) -> Fraction:
-        """Worst case as a share of the allowance; above 1 fails."""
-        return self.worst_case / self.requirement.allowance
+        """Worst case as a share of the allowance (for a ceiling: of the maximum); above 1 fails."""
+        if self.requirement.ceiling:
+            return self.achieved * (1 + self.source_budget) / self.requirement.target
+        return self.worst_case / self.allowance
 
     @property
     def margin(self) -> Fraction:
-        """Allowance left over after the worst case (negative when failing)."""
-        return self.requirement.allowance - self.worst_case
+        """Room left: allowance − worst case, or for a ceiling how far below the maximum."""
+        if self.requirement.ceiling:
+            return -self.worst_case
+        return self.allowance - self.worst_case
 
     @property
     def passes(self) -> bool:
-        """Whether the worst case fits inside the allowance."""
-        return self.worst_case <= self.requirement.allowance
+        """Whether the worst case fits inside the allowance (or the window, for a ceiling)."""
+        requirement = self.requirement
+        if requirement.ceiling:
+            slowest = self.achieved * (1 - self.source_budget)
+            above_floor = requirement.floor is None or slowest >= requirement.floor
+            return self.share <= 1 and above_floor
+        return self.worst_case <= self.allowance
 
 
 @dataclass(frozen=True)
@@ -78,8 +96,9 @@ class Evaluation:
 
     @property
     def worst(self) -> RateCheck | None:
-        """The check with the largest share of its allowance (first one on ties)."""
-        return max(self.checks, key=lambda check: check.share, default=None)
+        """The tolerance check with the largest share of its allowance (first one on ties)."""
+        tolerances = [check for check in self.checks if not check.requirement.ceiling]
+        return max(tolerances, key=lambda check: check.share, default=None)
 
     @property
     def worst_share(self) -> Fraction:
@@ -137,19 +156,30 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
         kernel = clocks[peripheral.clock]
         source = scenario.source(roots[peripheral.clock])
         for requirement in peripheral.requirements:
-            divisor = _setting(plan, requirement.setting, requirement.divisors, violations)
+            option = _option(plan, requirement, violations)
+            divisor = _setting(plan, requirement.setting, option.divisors, violations)
+            achieved = requirement.achieved(kernel, divisor)
             checks.append(
                 RateCheck(
                     requirement,
                     kernel,
                     divisor,
-                    requirement.achieved(kernel, divisor),
+                    achieved,
                     source.name,
                     source.budget,
                     source.budget_rss,
+                    option,
                 )
             )
     return Evaluation(clocks, roots, tuple(checks), tuple(violations))
+
+
+def _option(plan: Plan, requirement: Requirement, violations: list[str]) -> Option:
+    choices = requirement.choices
+    if len(choices) == 1:
+        return choices[0]
+    index = _setting(plan, requirement.option_setting, range(len(choices)), violations)
+    return choices[index]
 
 
 def _setting(

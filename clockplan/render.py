@@ -11,7 +11,7 @@ from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
 from clockplan.solve import RankedPlan, SearchResult, Status
 
-__all__ = ["ranking_table", "rates_table", "status_line", "share_text"]
+__all__ = ["ranking_table", "rates_table", "status_line", "share_text", "format_rate"]
 
 _STATUS_WORDS = {
     Status.OPTIMAL: "optimal (proved)",
@@ -97,13 +97,37 @@ def rates_table(ranked: RankedPlan) -> Table:
 def _rate_cells(check: RateCheck) -> list[str | Text]:
     requirement = check.requirement
     mark = Text("pass", style="green") if check.passes else Text("FAIL", style="bold red")
+    label = (
+        f"{requirement.label} ({check.option.label})" if check.option.label else requirement.label
+    )
+    if requirement.ceiling:
+        limit = f"≤ {format_rate(requirement.target, requirement.unit)}"
+        if requirement.floor is not None:
+            limit = f"{format_rate(requirement.floor, requirement.unit)} .. " + limit[2:]
+        return [
+            requirement.peripheral,
+            label,
+            format_rate(check.achieved, requirement.unit),
+            format_relative(check.error, signed=True),
+            format_relative(check.worst_case, signed=True),
+            limit,
+            share_text(check.share),
+            mark,
+        ]
     return [
         requirement.peripheral,
-        requirement.label,
-        format_hz(check.achieved),
+        label,
+        format_rate(check.achieved, requirement.unit),
         format_relative(check.error, signed=True),
         format_relative(check.worst_case),
-        format_relative(requirement.allowance),
+        format_relative(check.allowance),
         share_text(check.share),
         mark,
     ]
+
+
+def format_rate(value: Fraction, unit: str) -> str:
+    """A rate in hertz with a readable prefix, or in baud as a plain number."""
+    if unit == "baud":
+        return f"{float(value):.7g} Bd"
+    return format_hz(value)

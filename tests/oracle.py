@@ -48,17 +48,26 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
             kernel = clocks[peripheral.clock]
             budget = scenario.source(roots[peripheral.clock]).budget
             for requirement in peripheral.requirements:
+                if requirement.ceiling:
+                    if not _ceiling_met(requirement, kernel, budget):
+                        key = -1
+                        break
+                    continue
                 options = [
-                    requirement.achieved(kernel, d) / requirement.target - 1
-                    for d in requirement.divisors
+                    (requirement.achieved(kernel, d) / requirement.target - 1, option.allowance)
+                    for option in requirement.choices
+                    for d in option.divisors
                 ]
-                feasible = [e for e in options if abs(e) + budget <= requirement.allowance]
+                feasible = [(e, a) for e, a in options if abs(e) + budget <= a]
                 if not feasible:
                     key = -1
                     break
-                error = min(feasible, key=abs)
-                key = max(key, rate_key(error, budget, requirement.allowance, precision))
-                share = max(share, (abs(error) + budget) / requirement.allowance)
+                keys = [
+                    (rate_key(e, budget, a, precision), (abs(e) + budget) / a) for e, a in feasible
+                ]
+                best_rate = min(keys)
+                key = max(key, best_rate[0])
+                share = max(share, best_rate[1])
             if key < 0:
                 break
         if key < 0:
@@ -66,6 +75,17 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
         if best is None or (key, share) < best:
             best = (key, share)
     return best
+
+
+def _ceiling_met(requirement, kernel: Fraction, budget: Fraction) -> bool:  # type: ignore[no-untyped-def]
+    """Some divisor keeps the rate at or under the maximum (and over the floor) with the budget."""
+    for option in requirement.choices:
+        for divisor in option.divisors:
+            rate = requirement.achieved(kernel, divisor)
+            low_ok = requirement.floor is None or rate * (1 - budget) >= requirement.floor
+            if rate * (1 + budget) <= requirement.target and low_ok:
+                return True
+    return False
 
 
 def _walk(scenario: Scenario, setting: dict[str, object]):  # type: ignore[no-untyped-def]

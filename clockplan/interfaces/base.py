@@ -5,10 +5,29 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-__all__ = ["Requirement", "Peripheral", "Divisors"]
+__all__ = ["Requirement", "Peripheral", "Divisors", "Option"]
 
 Divisors = range | tuple[int, ...]
 """Allowed values of an internal divisor: a ``range`` (maybe stepped) or a sorted tuple."""
+
+
+@dataclass(frozen=True)
+class Option:
+    """One way to make a rate: the divisors it allows and the allowance that comes with them.
+
+    A CAN controller has one option per bit timing (quanta per bit, segments, SJW): the
+    divisor is prescaler × quanta, and the tolerance the bus allows depends on the timing.
+    """
+
+    divisors: Divisors
+    allowance: Fraction
+    """Largest worst-case relative error allowed with this option."""
+    label: str = ""
+    """What the option is, for people ("16 tq, sample point 87.5 %, SJW 1")."""
+    factor: int = 1
+    """The divisor is ``factor`` × the value the peripheral's prescaler holds."""
+    settings: tuple[tuple[str, int], ...] = ()
+    """Fixed register-level settings this option implies (quanta, phase segments …)."""
 
 
 @dataclass(frozen=True)
@@ -18,6 +37,10 @@ class Requirement:
     The achieved rate is ``kernel × numerator / divisor``; for a UART with four
     fraction bits and 16× oversampling the numerator is 16 and the divisor counts
     sixteenths of the baud divisor, times 16.
+
+    With ``ceiling`` the target is a maximum (an SPI, SD or I2C clock): the rate plus the
+    source's budget must stay at or below it (and at or above ``floor`` when given), and
+    the search makes it as fast as it may be. Ceilings do not enter the worst share.
     """
 
     peripheral: str
@@ -26,15 +49,32 @@ class Requirement:
     setting: str
     """Key of this requirement's divisor in a plan's settings."""
     target: Fraction
-    """Rate wanted, in hertz (or baud)."""
+    """Rate wanted (or the maximum, for a ceiling), in hertz (or baud)."""
     allowance: Fraction
-    """Largest worst-case relative error allowed."""
+    """Largest worst-case relative error allowed (unused for a ceiling)."""
     allowance_basis: str
-    """Where the allowance comes from: a standard, a derivation, or the scenario."""
+    """Where the allowance (or the ceiling) comes from: a standard, a derivation, the scenario."""
     numerator: int = 1
     divisors: Divisors = (1,)
     divisor_scale: int = 1
     """Divisor as the peripheral's register holds it = divisor / divisor_scale."""
+    options: tuple[Option, ...] = ()
+    """Ways to make the rate; empty means one option: ``divisors`` with ``allowance``."""
+    ceiling: bool = False
+    floor: Fraction | None = None
+    """Lowest acceptable rate for a ceiling (a min..max window), hertz."""
+    unit: str = "Hz"
+    """Unit to show the rate in: "Hz" or "baud"."""
+
+    @property
+    def choices(self) -> tuple[Option, ...]:
+        """The options, with the plain case as one option."""
+        return self.options or (Option(self.divisors, self.allowance),)
+
+    @property
+    def option_setting(self) -> str:
+        """Key of the chosen option's index in a plan's settings (when there are several)."""
+        return f"{self.setting}_option"
 
     def achieved(self, kernel: Fraction, divisor: int) -> Fraction:
         """The rate produced from ``kernel`` hertz with ``divisor``."""

@@ -24,7 +24,7 @@ from fractions import Fraction
 from ortools.sat.python import cp_model
 
 from clockplan.errors import ModelTooLargeError
-from clockplan.interfaces.base import Divisors, Requirement
+from clockplan.interfaces.base import Divisors, Option, Requirement
 from clockplan.plan import Plan, pll_keys
 from clockplan.scenario import Scenario
 from clockplan.tree import evaluation_order
@@ -63,7 +63,8 @@ class _Rate:
     scale: int
     """Denominator of the relative error: relative error = deviation / (scale · count)."""
     deviation: cp_model.LinearExprT
-    error_steps: cp_model.IntVar | None = None
+    options: list[tuple[Option, cp_model.LinearExprT | bool]]
+    """Each option with the literal that is true when it is chosen (True when alone)."""
 
 
 @dataclass
@@ -81,6 +82,8 @@ class ClockModel:
     mux_inputs: dict[str, tuple[str, ...]] = field(default_factory=dict)
     fastest: list[cp_model.IntVar] = field(default_factory=list)
     """Floors of the clocks marked "fastest", hertz (the secondary objective, maximised)."""
+    ceilings: list[cp_model.IntVar] = field(default_factory=list)
+    """Floors of the rates under a ceiling, hertz (maximised after the fastest clocks)."""
     shares: list[cp_model.IntVar] = field(default_factory=list)
     """Each rate's share of its allowance in steps (their sum is the third objective)."""
     preference: cp_model.IntVar | None = None
@@ -93,8 +96,9 @@ class ClockModel:
         a term whose weight would overflow 64 bits is left out, with every term after it.
         """
         terms: list[tuple[cp_model.LinearExprT, int]] = []  # (expression to maximise, span)
-        if self.fastest:
-            terms.append((sum(self.fastest), sum(_upper(var) for var in self.fastest) + 1))
+        for group in (self.fastest, self.ceilings):
+            if group:
+                terms.append((sum(group), sum(_upper(var) for var in group) + 1))
         terms.append((-sum(self.shares), SHARE_STEPS * len(self.shares) + 1))
         if self.preference is not None:
             terms.append((-self.preference, _upper(self.preference) + 1))
@@ -331,31 +335,45 @@ class _Builder:
             self.roots[mux.name][root] = flag
 
     def add_fastest(self, name: str, amount: _Term, count: _Term, maximum: Fraction | None) -> None:
+        self.handles.fastest.append(self.floor_hertz(name, amount, count, maximum))
+
+    def floor_hertz(
+        self, name: str, amount: _Term, count: _Term, maximum: Fraction | None
+    ) -> cp_model.IntVar:
+        """A variable at most unit · amount / count hertz: the clock's floor once maximised."""
         high = maximum if maximum is not None else self.unit * Fraction(amount.high, count.low)
         hertz = self.model.new_int_var(0, math.floor(high), f"hertz[{name}]")
         scaled = self.product(_Term(hertz, 0, math.floor(high)), count, f"hertz_count[{name}]")
-        # hertz ≤ unit · amount / count, so hertz is the clock's floor once maximised.
         _check(self.unit.denominator * scaled.high, name)
+        _check(self.unit.numerator * amount.high, name)
         self.model.add(self.unit.denominator * scaled.expr <= self.unit.numerator * amount.expr)
-        self.handles.fastest.append(hertz)
+        return hertz
 
     # -- rates ---------------------------------------------------------------------------------
 
     def add_rate(self, requirement: Requirement, node: str) -> None:
         amount, count_in = self.amount[node], self.count[node]
         target = requirement.target
-        widest = requirement.allowance
+        choices = requirement.choices
+        widest = max(option.allowance for option in choices)
         # achieved / target = (unit·numerator·amount) / (target·count·divisor)
         top = self.unit.numerator * target.denominator * requirement.numerator
         scale = target.numerator * self.unit.denominator
         _check(top * amount.high, requirement.setting)
-        divisor = self.choice(requirement.setting, requirement.divisors)
+        domains = [_domain(option.divisors) for option in choices]
+        union = domains[0]
+        for domain in domains[1:]:
+            union = union.union_with(domain)
+        divisor = self.model.new_int_var_from_domain(union, requirement.setting)
         self.handles.settings[requirement.setting] = divisor
+        literals = self.option_literals(requirement, divisor, domains)
+        values = union.flattened_intervals()
         count = self.product(
-            count_in,
-            _Term(divisor, min(requirement.divisors), max(requirement.divisors)),
-            f"count[{requirement.setting}]",
+            count_in, _Term(divisor, values[0], values[-1]), f"count[{requirement.setting}]"
         )
+        if requirement.ceiling:
+            self.add_ceiling(requirement, node, amount, count, top, scale)
+            return
         # |error| ≤ allowance bounds the count: scale·count within top·amount / (1 ± allowance).
         low = math.ceil(Fraction(top * amount.low, scale) / (1 + widest))
         high = (
@@ -368,7 +386,56 @@ class _Builder:
         deviation = top * amount.expr - scale * count.expr
         # the hard limit keeps |deviation| ≤ allowance · scale · count
         bound = math.ceil(widest * scale * count.high)
-        self.rates.append(_Rate(requirement, node, divisor, count, bound, scale, deviation))
+        options = list(zip(choices, literals, strict=True))
+        self.rates.append(
+            _Rate(requirement, node, divisor, count, bound, scale, deviation, options)
+        )
+
+    def option_literals(
+        self, requirement: Requirement, divisor: cp_model.IntVar, domains: list[cp_model.Domain]
+    ) -> list[cp_model.LinearExprT | bool]:
+        """One literal per option (exactly one true), each holding the divisor to its values."""
+        if len(domains) == 1:
+            return [True]
+        index = self.model.new_int_var(0, len(domains) - 1, requirement.option_setting)
+        self.handles.settings[requirement.option_setting] = index
+        literals: list[cp_model.LinearExprT | bool] = []
+        for position, domain in enumerate(domains):
+            chosen = self.model.new_bool_var(f"{requirement.option_setting}[{position}]")
+            self.model.add(index == position).only_enforce_if(chosen)
+            self.model.add(index != position).only_enforce_if(~chosen)
+            self.model.add_linear_expression_in_domain(divisor, domain).only_enforce_if(chosen)
+            literals.append(chosen)
+        return literals
+
+    def add_ceiling(
+        self, requirement: Requirement, node: str, amount: _Term, count: _Term, top: int, scale: int
+    ) -> None:
+        """rate·(1 + budget) ≤ maximum (and rate·(1 − budget) ≥ floor); as fast as allowed."""
+        for root, active in self.roots[node].items():
+            budget = self.scenario.source(root).budget
+            enforce = [] if active is True else [active]
+            fast = 1 + budget
+            _check(fast.numerator * top * amount.high, requirement.setting)
+            _check(fast.denominator * scale * count.high, requirement.setting)
+            self.model.add(
+                fast.numerator * top * amount.expr <= fast.denominator * scale * count.expr
+            ).only_enforce_if(enforce)
+            if requirement.floor is not None:
+                slow = (1 - budget) * requirement.floor.denominator * requirement.target.numerator
+                wanted = requirement.floor.numerator * requirement.target.denominator
+                left, right = slow.numerator * top, slow.denominator * wanted * scale
+                _check(left * amount.high, requirement.setting)
+                _check(right * count.high, requirement.setting)
+                self.model.add(left * amount.expr >= right * count.expr).only_enforce_if(enforce)
+        achieved = _Term(
+            requirement.numerator * amount.expr,
+            requirement.numerator * amount.low,
+            requirement.numerator * amount.high,
+        )
+        self.handles.ceilings.append(
+            self.floor_hertz(requirement.setting, achieved, count, requirement.target)
+        )
 
     def add_objective(self) -> None:
         precision = self.choose_precision()
@@ -377,18 +444,17 @@ class _Builder:
         self.handles.worst = worst
         power = 10**precision
         for rate in self.rates:
-            share = self.model.new_int_var(
-                0, SHARE_STEPS, f"share_steps[{rate.requirement.setting}]"
-            )
+            requirement = rate.requirement
+            share = self.model.new_int_var(0, SHARE_STEPS, f"share_steps[{requirement.setting}]")
             self.model.add(share <= worst)
             self.handles.shares.append(share)
-            requirement = rate.requirement
             magnitude = self.model.new_int_var(
                 0, rate.deviation_bound, f"abs_deviation[{requirement.setting}]"
             )
             self.model.add_abs_equality(magnitude, rate.deviation)
             denominator = rate.scale * rate.count.expr
-            steps_high = math.ceil(power * requirement.allowance) + 1
+            widest = max(option.allowance for option, _ in rate.options)
+            steps_high = math.ceil(power * widest) + 1
             steps = self.model.new_int_var(0, steps_high, f"error_steps[{requirement.setting}]")
             # steps = ceil(power · |deviation| / (scale · count)): the error rounded up.
             self.model.add_division_equality(
@@ -396,26 +462,24 @@ class _Builder:
             )
             for root, active in self.roots[rate.node].items():
                 budget = self.scenario.source(root).budget
-                room = requirement.allowance - budget
-                enforce = [] if active is True else [active]
-                if room < 0:
-                    self.model.add_bool_or([~a for a in enforce])  # this source can never serve it
-                    continue
-                # hard: |error| ≤ allowance − budget
-                self.model.add(
-                    room.denominator * magnitude <= room.numerator * denominator
-                ).only_enforce_if(enforce)
-                # worst ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly in integers
-                allowance = requirement.allowance
-                left = allowance.numerator * budget.denominator * power
-                right_steps = SHARE_STEPS * allowance.denominator * budget.denominator
-                right_const = SHARE_STEPS * allowance.denominator * budget.numerator * power
-                _check(left * SHARE_STEPS, requirement.setting)
-                _check(right_steps * steps_high + right_const, requirement.setting)
-                self.model.add(left * share >= right_steps * steps + right_const).only_enforce_if(
-                    enforce
-                )
-            rate.error_steps = steps
+                for option, chosen in rate.options:
+                    enforce = [lit for lit in (active, chosen) if lit is not True]
+                    room = option.allowance - budget
+                    if room < 0:
+                        self.model.add_bool_or([~lit for lit in enforce])  # can never serve it
+                        continue
+                    # hard: |error| ≤ allowance − budget
+                    self.model.add(
+                        room.denominator * magnitude <= room.numerator * denominator
+                    ).only_enforce_if(enforce)
+                    # share ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly
+                    allowance = option.allowance
+                    left = allowance.numerator * budget.denominator * power
+                    right_steps = SHARE_STEPS * allowance.denominator * budget.denominator
+                    right_const = SHARE_STEPS * allowance.denominator * budget.numerator * power
+                    self.model.add(
+                        left * share >= right_steps * steps + right_const
+                    ).only_enforce_if(enforce)
 
     def choose_precision(self) -> int:
         """The finest 10**-p for synthesis errors that keeps every term below LIMIT."""
@@ -423,21 +487,22 @@ class _Builder:
             power = 10**precision
             fits = True
             for rate in self.rates:
-                requirement = rate.requirement
                 if power * rate.deviation_bound + rate.scale * rate.count.high >= LIMIT:
                     fits = False
                     break
-                steps_high = math.ceil(power * requirement.allowance) + 1
+                widest = max(option.allowance for option, _ in rate.options)
+                steps_high = math.ceil(power * widest) + 1
                 for root in self.roots[rate.node]:
                     budget = self.scenario.source(root).budget
-                    allowance = requirement.allowance
-                    terms = (
-                        allowance.numerator * budget.denominator * power * SHARE_STEPS,
-                        SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
-                        + SHARE_STEPS * allowance.denominator * budget.numerator * power,
-                    )
-                    if max(terms) >= LIMIT:
-                        fits = False
+                    for option, _ in rate.options:
+                        allowance = option.allowance
+                        terms = (
+                            allowance.numerator * budget.denominator * power * SHARE_STEPS,
+                            SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
+                            + SHARE_STEPS * allowance.denominator * budget.numerator * power,
+                        )
+                        if max(terms) >= LIMIT:
+                            fits = False
                 if not fits:
                     break
             if fits:
@@ -463,6 +528,12 @@ def _check(value: int, where: str) -> None:
             f"{where}: the model would need integers of {value.bit_length()} bits (at most 62); "
             "narrow its ranges, fraction bits or the candidate frequencies"
         )
+
+
+def _domain(values: Divisors) -> cp_model.Domain:
+    if isinstance(values, range) and values.step == 1:
+        return cp_model.Domain(values.start, values.stop - 1)
+    return cp_model.Domain.from_values(list(values))
 
 
 def _lower(var: cp_model.IntVar) -> int:

@@ -1,0 +1,90 @@
+"""Requirements with several options (own divisors and allowance) and ceiling rates."""
+
+from dataclasses import replace
+from fractions import Fraction
+
+import pytest
+
+from clockplan.evaluate import evaluate_plan
+from clockplan.interfaces.base import Option, Peripheral, Requirement
+from clockplan.solve import Status, search
+from tests.conftest import scenario_from
+from tests.oracle import best_key
+
+BOARD = """
+[sources.main]
+kind = "crystal"
+choose = ["8 MHz", "10 MHz", "16 MHz", "20 MHz"]
+[dividers.kernel]
+from = "main"
+divide = [1, 2, 4]
+"""
+
+
+def with_requirements(*requirements: Requirement):
+    scenario = scenario_from(BOARD)
+    peripheral = Peripheral("bus", "test", "kernel", requirements)
+    return replace(scenario, peripherals=(peripheral,))
+
+
+def option_rate() -> Requirement:
+    # Two ways to make 500 kbit/s: 8 quanta (loose divisors, tight allowance) or 16 quanta
+    # (a wider allowance); the divisor is prescaler × quanta.
+    eight = Option(range(8, 8 * 64 + 1, 8), Fraction(3, 1000), "8 tq", 8)
+    sixteen = Option(range(16, 16 * 64 + 1, 16), Fraction(6, 1000), "16 tq", 16)
+    return Requirement("bus", "500 kbit/s", "bus.divisor", Fraction(500_000), Fraction(0), "test",
+                       options=(eight, sixteen))
+
+
+def ceiling_rate(floor: Fraction | None = None) -> Requirement:
+    return Requirement("bus", "SPI ≤ 3 MHz", "spi.divisor", Fraction(3_000_000), Fraction(0),
+                       "test", divisors=(2, 4, 8, 16, 32), ceiling=True, floor=floor)
+
+
+@pytest.mark.parametrize(
+    "requirements",
+    [(option_rate(),), (option_rate(), ceiling_rate()), (ceiling_rate(), option_rate())],
+    ids=["options", "options+ceiling", "ceiling+options"],
+)
+def test_options_and_ceilings_match_the_oracle(requirements):
+    scenario = with_requirements(*requirements)
+    result = search(scenario, top=3)
+    assert result.status is Status.OPTIMAL
+    key, share = best_key(scenario, result.precision)
+    assert result.plans[0].worst_steps == key
+    for ranked in result.plans:
+        evaluation = evaluate_plan(scenario, ranked.plan)
+        assert evaluation.violations == ()
+        assert evaluation.feasible
+
+
+def test_chosen_option_is_recorded_and_its_divisor_belongs_to_it():
+    scenario = with_requirements(option_rate())
+    for ranked in search(scenario, top=4).plans:
+        (check,) = ranked.evaluation.checks
+        index = ranked.plan.settings["bus.divisor_option"]
+        assert check.option == option_rate().options[index]
+        assert check.divisor % check.option.factor == 0
+
+
+def test_ceiling_is_as_fast_as_allowed_with_the_budget():
+    scenario = with_requirements(ceiling_rate())
+    best = search(scenario, top=1).plans[0]
+    (check,) = best.evaluation.checks
+    budget = scenario.source("main").budget
+    assert check.achieved * (1 + budget) <= 3_000_000
+    # no candidate, divider and divisor reaches closer to the ceiling (brute force)
+    fastest = max(
+        Fraction(f) / k / d
+        for f in (8_000_000, 10_000_000, 16_000_000, 20_000_000)
+        for k in (1, 2, 4)
+        for d in (2, 4, 8, 16, 32)
+        if Fraction(f) / k / d * (1 + budget) <= 3_000_000
+    )
+    assert check.achieved == fastest
+    assert best.evaluation.worst is None  # ceilings do not enter the worst share
+
+
+def test_floor_that_no_divisor_can_meet_is_infeasible():
+    scenario = with_requirements(ceiling_rate(floor=Fraction(2_990_000)))
+    assert search(scenario, top=1).status is Status.INFEASIBLE
