@@ -7,6 +7,7 @@ and allowed value, and scores every peripheral rate. It shares no code with
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from fractions import Fraction
 
@@ -157,7 +158,13 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
         source = scenario.source(roots[peripheral.clock])
         for requirement in peripheral.requirements:
             option = _option(plan, requirement, violations)
-            divisor = _setting(plan, requirement.setting, option.divisors, violations)
+            if requirement.stages:
+                divisor = math.prod(
+                    _setting(plan, requirement.stage_setting(name), values, violations)
+                    for name, values in requirement.stages
+                )
+            else:
+                divisor = _setting(plan, requirement.setting, option.divisors, violations)
             achieved = requirement.achieved(kernel, divisor)
             checks.append(
                 RateCheck(

@@ -56,7 +56,7 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
                 options = [
                     (requirement.achieved(kernel, d) / requirement.target - 1, option.allowance)
                     for option in requirement.choices
-                    for d in option.divisors
+                    for d in _divisors(requirement, option)
                 ]
                 feasible = [(e, a) for e, a in options if abs(e) + budget <= a]
                 if not feasible:
@@ -77,10 +77,19 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
     return best
 
 
+def _divisors(requirement, option):  # type: ignore[no-untyped-def]
+    """Every divisor an option allows: its own set, or every product of the named stages."""
+    if requirement.stages:
+        return {
+            math.prod(combo) for combo in itertools.product(*(v for _, v in requirement.stages))
+        }
+    return option.divisors
+
+
 def _ceiling_met(requirement, kernel: Fraction, budget: Fraction) -> bool:  # type: ignore[no-untyped-def]
     """Some divisor keeps the rate at or under the maximum (and over the floor) with the budget."""
     for option in requirement.choices:
-        for divisor in option.divisors:
+        for divisor in _divisors(requirement, option):
             rate = requirement.achieved(kernel, divisor)
             low_ok = requirement.floor is None or rate * (1 - budget) >= requirement.floor
             if rate * (1 + budget) <= requirement.target and low_ok:

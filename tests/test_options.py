@@ -32,13 +32,29 @@ def option_rate() -> Requirement:
     # (a wider allowance); the divisor is prescaler × quanta.
     eight = Option(range(8, 8 * 64 + 1, 8), Fraction(3, 1000), "8 tq", 8)
     sixteen = Option(range(16, 16 * 64 + 1, 16), Fraction(6, 1000), "16 tq", 16)
-    return Requirement("bus", "500 kbit/s", "bus.divisor", Fraction(500_000), Fraction(0), "test",
-                       options=(eight, sixteen))
+    return Requirement(
+        "bus",
+        "500 kbit/s",
+        "bus.divisor",
+        Fraction(500_000),
+        Fraction(0),
+        "test",
+        options=(eight, sixteen),
+    )
 
 
 def ceiling_rate(floor: Fraction | None = None) -> Requirement:
-    return Requirement("bus", "SPI ≤ 3 MHz", "spi.divisor", Fraction(3_000_000), Fraction(0),
-                       "test", divisors=(2, 4, 8, 16, 32), ceiling=True, floor=floor)
+    return Requirement(
+        "bus",
+        "SPI ≤ 3 MHz",
+        "spi.divisor",
+        Fraction(3_000_000),
+        Fraction(0),
+        "test",
+        divisors=(2, 4, 8, 16, 32),
+        ceiling=True,
+        floor=floor,
+    )
 
 
 @pytest.mark.parametrize(
@@ -88,3 +104,35 @@ def test_ceiling_is_as_fast_as_allowed_with_the_budget():
 def test_floor_that_no_divisor_can_meet_is_infeasible():
     scenario = with_requirements(ceiling_rate(floor=Fraction(2_990_000)))
     assert search(scenario, top=1).status is Status.INFEASIBLE
+
+
+def timer_rate() -> Requirement:
+    # 1 kHz from the kernel through a prescaler (1..64) and a reload count (1..256).
+    return Requirement(
+        "bus",
+        "1 kHz tick",
+        "timer.divisor",
+        Fraction(1000),
+        Fraction(1, 10**4),
+        "test",
+        stages=(("prescaler", range(1, 65)), ("reload", range(1, 257))),
+    )
+
+
+def test_stages_multiply_to_the_divisor_and_match_the_oracle():
+    scenario = with_requirements(timer_rate())
+    result = search(scenario, top=2)
+    assert result.status is Status.OPTIMAL
+    assert result.plans[0].worst_steps == best_key(scenario, result.precision)[0]
+    for ranked in result.plans:
+        settings = ranked.plan.settings
+        (check,) = evaluate_plan(scenario, ranked.plan).checks
+        assert (
+            check.divisor == settings["timer.divisor.prescaler"] * settings["timer.divisor.reload"]
+        )
+        assert check.error == 0  # 8, 10, 16, 20 MHz ÷ 1, 2, 4 all divide to 1 kHz exactly
+
+
+def test_stages_and_options_do_not_mix():
+    with pytest.raises(ValueError, match="stages or options"):
+        replace(timer_rate(), options=option_rate().options)

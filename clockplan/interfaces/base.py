@@ -65,6 +65,20 @@ class Requirement:
     """Lowest acceptable rate for a ceiling (a min..max window), hertz."""
     unit: str = "Hz"
     """Unit to show the rate in: "Hz" or "baud"."""
+    stages: tuple[tuple[str, Divisors], ...] = ()
+    """Named prescaler stages whose product is the divisor (a timer's prescaler × reload).
+
+    When given, each stage is a setting of its own (``stage_setting(name)``) and
+    ``divisors``/``options`` are not used: the divisor is the product of the stages.
+    """
+
+    def __post_init__(self) -> None:
+        if self.stages and self.options:
+            raise ValueError(f"{self.setting}: a requirement has stages or options, not both")
+
+    def stage_setting(self, name: str) -> str:
+        """Key of one stage's value in a plan's settings."""
+        return f"{self.setting}.{name}"
 
     @property
     def choices(self) -> tuple[Option, ...]:

@@ -57,7 +57,6 @@ class _Rate:
 
     requirement: Requirement
     node: str
-    divisor: cp_model.IntVar
     count: _Term
     deviation_bound: int
     scale: int
@@ -360,17 +359,20 @@ class _Builder:
         top = self.unit.numerator * target.denominator * requirement.numerator
         scale = target.numerator * self.unit.denominator
         _check(top * amount.high, requirement.setting)
-        domains = [_domain(option.divisors) for option in choices]
-        union = domains[0]
-        for domain in domains[1:]:
-            union = union.union_with(domain)
-        divisor = self.model.new_int_var_from_domain(union, requirement.setting)
-        self.handles.settings[requirement.setting] = divisor
-        literals = self.option_literals(requirement, divisor, domains)
-        values = union.flattened_intervals()
-        count = self.product(
-            count_in, _Term(divisor, values[0], values[-1]), f"count[{requirement.setting}]"
-        )
+        if requirement.stages:
+            literals: list[cp_model.LinearExprT | bool] = [True]
+            divisor_term = self.stage_product(requirement)
+        else:
+            domains = [_domain(option.divisors) for option in choices]
+            union = domains[0]
+            for domain in domains[1:]:
+                union = union.union_with(domain)
+            divisor = self.model.new_int_var_from_domain(union, requirement.setting)
+            self.handles.settings[requirement.setting] = divisor
+            literals = self.option_literals(requirement, divisor, domains)
+            values = union.flattened_intervals()
+            divisor_term = _Term(divisor, values[0], values[-1])
+        count = self.product(count_in, divisor_term, f"count[{requirement.setting}]")
         if requirement.ceiling:
             self.add_ceiling(requirement, node, amount, count, top, scale)
             return
@@ -387,9 +389,17 @@ class _Builder:
         # the hard limit keeps |deviation| ≤ allowance · scale · count
         bound = math.ceil(widest * scale * count.high)
         options = list(zip(choices, literals, strict=True))
-        self.rates.append(
-            _Rate(requirement, node, divisor, count, bound, scale, deviation, options)
-        )
+        self.rates.append(_Rate(requirement, node, count, bound, scale, deviation, options))
+
+    def stage_product(self, requirement: Requirement) -> _Term:
+        """The divisor as the product of the requirement's named stages, each a setting."""
+        product: _Term = _Term(1, 1, 1)
+        for name, values in requirement.stages:
+            key = requirement.stage_setting(name)
+            stage = self.choice(key, values)
+            self.handles.settings[key] = stage
+            product = self.product(product, _Term(stage, min(values), max(values)), f"{key}*")
+        return product
 
     def option_literals(
         self, requirement: Requirement, divisor: cp_model.IntVar, domains: list[cp_model.Domain]
