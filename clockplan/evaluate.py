@@ -13,6 +13,7 @@ from fractions import Fraction
 
 from clockplan.interfaces.base import Option, Requirement
 from clockplan.plan import Plan, pll_keys
+from clockplan.quantities import format_hz
 from clockplan.scenario import Scenario
 from clockplan.tree import evaluation_order
 
@@ -213,6 +214,6 @@ def _within(
 ) -> None:
     low, high = limits
     if low is not None and value < low:
-        violations.append(f"{label}: {float(value):.6g} Hz is below {float(low):.6g} Hz")
+        violations.append(f"{label} at {format_hz(value)} is below {format_hz(low)}")
     if high is not None and value > high:
-        violations.append(f"{label}: {float(value):.6g} Hz is above {float(high):.6g} Hz")
+        violations.append(f"{label} at {format_hz(value)} is above {format_hz(high)}")

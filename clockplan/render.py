@@ -10,8 +10,16 @@ from rich.text import Text
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
 from clockplan.solve import RankedPlan, SearchResult, Status
+from clockplan.solve.explain import Explanation
 
-__all__ = ["ranking_table", "rates_table", "status_line", "share_text", "format_rate"]
+__all__ = [
+    "ranking_table",
+    "rates_table",
+    "status_line",
+    "share_text",
+    "format_rate",
+    "explanation_text",
+]
 
 _STATUS_WORDS = {
     Status.OPTIMAL: "optimal (proved)",
@@ -131,3 +139,24 @@ def format_rate(value: Fraction, unit: str) -> str:
     if unit == "baud":
         return f"{float(value):.7g} Bd"
     return format_hz(value)
+
+
+def explanation_text(explanation: Explanation) -> Text:
+    """Why no plan fits, in words: the conflicting limits and how far each must move."""
+    if not explanation.conflict:
+        return Text(
+            "No plan fits, and no set of limits explains it: no setting brings every rate "
+            "within 50 % of its target.",
+            style="bold red",
+        )
+    minimal = (
+        "" if explanation.minimal else " (the time limit stopped the search for a smaller set)"
+    )
+    text = Text("These limits cannot all hold together" + minimal + ":\n", style="bold red")
+    for limit in explanation.conflict:
+        text.append(f"  - {limit}\n")
+    text.append("Closest plans with one limit let go:\n", style="bold")
+    for relaxation in explanation.relaxations:
+        text.append(f'  - without "{relaxation.limit}": {relaxation.advice}\n')
+    text.rstrip()
+    return text

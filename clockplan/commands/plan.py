@@ -12,9 +12,10 @@ from rich.progress import Progress
 
 from clockplan.errors import InputError
 from clockplan.export import result_to_data
-from clockplan.render import ranking_table, rates_table, status_line
+from clockplan.render import explanation_text, ranking_table, rates_table, status_line
 from clockplan.scenario import default_scenario_path, load_scenario
 from clockplan.solve import SearchResult, Status, search
+from clockplan.solve.explain import explain_infeasibility
 from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
 
 EXIT_OK, EXIT_NO_PLAN = 0, 1
@@ -98,8 +99,11 @@ def run(args: argparse.Namespace) -> int:
         if result.plans:
             console.print(ranking_table(result))
             console.print(rates_table(result.plans[0]))
+        elif result.status is Status.INFEASIBLE:
+            explanation = explain_infeasibility(result.scenario, time_limit=args.time_limit)
+            console.print(explanation_text(explanation))
         else:
-            console.print("No plan meets every limit and allowance.", style="bold red")
+            console.print("The time limit stopped the search before any plan.", style="bold red")
     best_fits = bool(result.plans) and result.plans[0].evaluation.feasible
     return (
         EXIT_OK

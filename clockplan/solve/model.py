@@ -26,6 +26,7 @@ from ortools.sat.python import cp_model
 from clockplan.errors import ModelTooLargeError
 from clockplan.interfaces.base import Divisors, Option, Requirement
 from clockplan.plan import Plan, pll_keys
+from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Scenario
 from clockplan.tree import evaluation_order
 
@@ -36,6 +37,8 @@ SHARE_STEPS = 10_000
 LIMIT = 2**62
 """Largest magnitude any term of the model may reach (CP-SAT refuses overflow past 2**63)."""
 MAX_PRECISION = 9
+RELAXED_ERROR = Fraction(1, 2)
+"""In a relaxable model every rate still stays within 50 % of its target (a modelling bound)."""
 
 
 @dataclass(frozen=True)
@@ -64,6 +67,30 @@ class _Rate:
     deviation: cp_model.LinearExprT
     options: list[tuple[Option, cp_model.LinearExprT | bool]]
     """Each option with the literal that is true when it is chosen (True when alone)."""
+    error_high: Fraction
+    """Largest relative synthesis error the model holds for this rate."""
+
+    def share_high(self, budgets: list[Fraction], relaxable: bool) -> int:
+        """Largest share of an allowance (in steps) the model holds for this rate."""
+        if not relaxable:
+            return SHARE_STEPS
+        narrowest = min(option.allowance for option, _ in self.options)
+        return math.ceil(SHARE_STEPS * (self.error_high + max(budgets)) / narrowest) + 1
+
+
+@dataclass(frozen=True)
+class Limit:
+    """One limit of the scenario that an explanation may name or relax."""
+
+    key: str
+    text: str
+    """The limit in words, with its numbers."""
+    literal: cp_model.IntVar
+    """True when the limit holds (an assumption in a relaxable model)."""
+    requirement: Requirement | None = None
+    """The rate this limit belongs to, for an allowance or a ceiling."""
+    share: cp_model.IntVar | None = None
+    """The rate's share variable, minimised when its allowance is relaxed."""
 
 
 @dataclass
@@ -85,6 +112,8 @@ class ClockModel:
     """Floors of the rates under a ceiling, hertz (maximised after the fastest clocks)."""
     shares: list[cp_model.IntVar] = field(default_factory=list)
     """Each rate's share of its allowance in steps (their sum is the third objective)."""
+    limits: dict[str, Limit] = field(default_factory=dict)
+    """Guarded limits by key (only in a relaxable model), in the order they were built."""
     preference: cp_model.IntVar | None = None
     """Position of the chosen frequency in the first choosing source's list (last tie-breaker)."""
 
@@ -145,14 +174,21 @@ class ClockModel:
             self.model.add_bool_or([])  # nothing left to choose: no further plan exists
 
 
-def build_model(scenario: Scenario) -> ClockModel:
-    """Translate ``scenario`` into a CP-SAT model."""
-    return _Builder(scenario).build()
+def build_model(scenario: Scenario, *, relaxable: bool = False) -> ClockModel:
+    """Translate ``scenario`` into a CP-SAT model.
+
+    With ``relaxable`` every limit (allowance, PFD, VCO, min, max, ceiling) is guarded
+    by a literal in :attr:`ClockModel.limits`, so that an explanation can switch limits
+    off one by one. Every rate then stays within 50 % of its target (RELAXED_ERROR), and
+    shares may exceed one allowance.
+    """
+    return _Builder(scenario, relaxable).build()
 
 
 class _Builder:
-    def __init__(self, scenario: Scenario) -> None:
+    def __init__(self, scenario: Scenario, relaxable: bool = False) -> None:
         self.scenario = scenario
+        self.relaxable = relaxable
         self.model = cp_model.CpModel()
         self.unit = _common_unit(frequency for s in scenario.sources for frequency in s.candidates)
         self.amount: dict[str, _Term] = {}
@@ -162,6 +198,15 @@ class _Builder:
         self.handles = ClockModel(
             scenario, self.model, self.unit, 0, self.model.new_int_var(0, 0, "unset")
         )
+
+    def guard(self, key: str, text: str, **extra: object) -> list[cp_model.IntVar]:
+        """Enforcement literals for one limit: none normally, its guard when relaxable."""
+        if not self.relaxable:
+            return []
+        if key not in self.handles.limits:
+            literal = self.model.new_bool_var(f"holds[{key}]")
+            self.handles.limits[key] = Limit(key, text, literal, **extra)  # type: ignore[arg-type]
+        return [self.handles.limits[key].literal]
 
     # -- variables -----------------------------------------------------------------------------
 
@@ -214,7 +259,9 @@ class _Builder:
             _check(ratio.numerator * count.high, node)
             left = ratio.denominator * amount.expr
             right = ratio.numerator * count.expr
-            self.model.add(left >= right if sense == 1 else left <= right)
+            side = "at least" if sense == 1 else "at most"
+            enforce = self.guard(f"{node} {side}", f"{node} {side} {format_hz(bound)}")
+            self.model.add(left >= right if sense == 1 else left <= right).only_enforce_if(enforce)
 
     # -- nodes ---------------------------------------------------------------------------------
 
@@ -376,6 +423,8 @@ class _Builder:
         if requirement.ceiling:
             self.add_ceiling(requirement, node, amount, count, top, scale)
             return
+        if self.relaxable:  # room to show how far an allowance must move
+            widest = max(widest, RELAXED_ERROR)
         # |error| ≤ allowance bounds the count: scale·count within top·amount / (1 ± allowance).
         low = math.ceil(Fraction(top * amount.low, scale) / (1 + widest))
         high = (
@@ -384,12 +433,16 @@ class _Builder:
             else count.high
         )
         count = self.bounded(count, low, high, f"count_bounded[{requirement.setting}]")
-        _check(scale * count.high, requirement.setting)
-        deviation = top * amount.expr - scale * count.expr
         # the hard limit keeps |deviation| ≤ allowance · scale · count
         bound = math.ceil(widest * scale * count.high)
+        error_high = widest
+        _check(scale * count.high, requirement.setting)
+        _check(bound, requirement.setting)
+        deviation = top * amount.expr - scale * count.expr
         options = list(zip(choices, literals, strict=True))
-        self.rates.append(_Rate(requirement, node, count, bound, scale, deviation, options))
+        self.rates.append(
+            _Rate(requirement, node, count, bound, scale, deviation, options, error_high)
+        )
 
     def stage_product(self, requirement: Requirement) -> _Term:
         """The divisor as the product of the requirement's named stages, each a setting."""
@@ -422,6 +475,19 @@ class _Builder:
         self, requirement: Requirement, node: str, amount: _Term, count: _Term, top: int, scale: int
     ) -> None:
         """rate·(1 + budget) ≤ maximum (and rate·(1 − budget) ≥ floor); as fast as allowed."""
+        label = f"{requirement.peripheral} ({requirement.label})"
+        held = self.guard(
+            f"{requirement.setting} at most",
+            f"{label} at most {format_hz(requirement.target)} with its source's budget",
+            requirement=requirement,
+        )
+        kept = []
+        if requirement.floor is not None:
+            kept = self.guard(
+                f"{requirement.setting} at least",
+                f"{label} at least {format_hz(requirement.floor)} with its source's budget",
+                requirement=requirement,
+            )
         for root, active in self.roots[node].items():
             budget = self.scenario.source(root).budget
             enforce = [] if active is True else [active]
@@ -430,14 +496,16 @@ class _Builder:
             _check(fast.denominator * scale * count.high, requirement.setting)
             self.model.add(
                 fast.numerator * top * amount.expr <= fast.denominator * scale * count.expr
-            ).only_enforce_if(enforce)
+            ).only_enforce_if(enforce + held)
             if requirement.floor is not None:
                 slow = (1 - budget) * requirement.floor.denominator * requirement.target.numerator
                 wanted = requirement.floor.numerator * requirement.target.denominator
                 left, right = slow.numerator * top, slow.denominator * wanted * scale
                 _check(left * amount.high, requirement.setting)
                 _check(right * count.high, requirement.setting)
-                self.model.add(left * amount.expr >= right * count.expr).only_enforce_if(enforce)
+                self.model.add(left * amount.expr >= right * count.expr).only_enforce_if(
+                    enforce + kept
+                )
         achieved = _Term(
             requirement.numerator * amount.expr,
             requirement.numerator * amount.low,
@@ -450,12 +518,23 @@ class _Builder:
     def add_objective(self) -> None:
         precision = self.choose_precision()
         self.handles.precision = precision
-        worst = self.model.new_int_var(0, SHARE_STEPS, "worst_share_steps")
+        top_share = max((self.share_high(rate) for rate in self.rates), default=SHARE_STEPS)
+        worst = self.model.new_int_var(0, top_share, "worst_share_steps")
         self.handles.worst = worst
         power = 10**precision
         for rate in self.rates:
             requirement = rate.requirement
-            share = self.model.new_int_var(0, SHARE_STEPS, f"share_steps[{requirement.setting}]")
+            share = self.model.new_int_var(
+                0, self.share_high(rate), f"share_steps[{requirement.setting}]"
+            )
+            label = f"{requirement.peripheral} ({requirement.label})"
+            widest_allowance = max(option.allowance for option, _ in rate.options)
+            held = self.guard(
+                f"{requirement.setting} allowance",
+                f"{label} within {format_relative(widest_allowance)} worst case",
+                requirement=requirement,
+                share=share,
+            )
             self.model.add(share <= worst)
             self.handles.shares.append(share)
             magnitude = self.model.new_int_var(
@@ -463,8 +542,7 @@ class _Builder:
             )
             self.model.add_abs_equality(magnitude, rate.deviation)
             denominator = rate.scale * rate.count.expr
-            widest = max(option.allowance for option, _ in rate.options)
-            steps_high = math.ceil(power * widest) + 1
+            steps_high = self.steps_high(rate, power)
             steps = self.model.new_int_var(0, steps_high, f"error_steps[{requirement.setting}]")
             # steps = ceil(power · |deviation| / (scale · count)): the error rounded up.
             self.model.add_division_equality(
@@ -475,13 +553,14 @@ class _Builder:
                 for option, chosen in rate.options:
                     enforce = [lit for lit in (active, chosen) if lit is not True]
                     room = option.allowance - budget
-                    if room < 0:
-                        self.model.add_bool_or([~lit for lit in enforce])  # can never serve it
-                        continue
-                    # hard: |error| ≤ allowance − budget
-                    self.model.add(
-                        room.denominator * magnitude <= room.numerator * denominator
-                    ).only_enforce_if(enforce)
+                    if room < 0:  # this source can never serve it
+                        self.model.add_bool_or([~lit for lit in enforce + held])
+                    else:  # hard: |error| ≤ allowance − budget
+                        _check(room.denominator * rate.deviation_bound, requirement.setting)
+                        _check(room.numerator * rate.scale * rate.count.high, requirement.setting)
+                        self.model.add(
+                            room.denominator * magnitude <= room.numerator * denominator
+                        ).only_enforce_if(enforce + held)
                     # share ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly
                     allowance = option.allowance
                     left = allowance.numerator * budget.denominator * power
@@ -490,6 +569,14 @@ class _Builder:
                     self.model.add(
                         left * share >= right_steps * steps + right_const
                     ).only_enforce_if(enforce)
+
+    def steps_high(self, rate: _Rate, power: int) -> int:
+        """Largest synthesis error the model must hold, in steps of 1/power."""
+        return math.ceil(power * rate.error_high) + 1
+
+    def share_high(self, rate: _Rate) -> int:
+        budgets = [self.scenario.source(root).budget for root in self.roots[rate.node]]
+        return rate.share_high(budgets, self.relaxable)
 
     def choose_precision(self) -> int:
         """The finest 10**-p for synthesis errors that keeps every term below LIMIT."""
@@ -500,14 +587,16 @@ class _Builder:
                 if power * rate.deviation_bound + rate.scale * rate.count.high >= LIMIT:
                     fits = False
                     break
-                widest = max(option.allowance for option, _ in rate.options)
-                steps_high = math.ceil(power * widest) + 1
+                steps_high = self.steps_high(rate, power)
                 for root in self.roots[rate.node]:
                     budget = self.scenario.source(root).budget
                     for option, _ in rate.options:
                         allowance = option.allowance
                         terms = (
-                            allowance.numerator * budget.denominator * power * SHARE_STEPS,
+                            allowance.numerator
+                            * budget.denominator
+                            * power
+                            * self.share_high(rate),
                             SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
                             + SHARE_STEPS * allowance.denominator * budget.numerator * power,
                         )
