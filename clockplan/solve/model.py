@@ -99,7 +99,8 @@ class ClockModel:
 
     scenario: Scenario
     model: cp_model.CpModel
-    unit: Fraction
+    source_units: dict[str, Fraction]
+    """Each source's frequency is its unit × its integer variable."""
     precision: int
     worst: cp_model.IntVar
     """Worst share of an allowance in steps of 1/SHARE_STEPS (the primary objective)."""
@@ -148,7 +149,10 @@ class ClockModel:
 
     def read_plan(self, solver: cp_model.CpSolver) -> Plan:
         """The plan in the solver's current solution."""
-        sources = {name: self.unit * solver.value(var) for name, var in self.source_values.items()}
+        sources = {
+            name: self.source_units[name] * solver.value(var)
+            for name, var in self.source_values.items()
+        }
         settings: dict[str, int | str] = {}
         for key, var in self.settings.items():
             value = int(solver.value(var))
@@ -161,7 +165,7 @@ class ClockModel:
         differs = []
         for name, frequency in chosen.items():
             var = self.source_values[name]
-            value = int(frequency / self.unit)
+            value = int(frequency / self.source_units[name])
             if len(self.scenario.source(name).candidates) == 1:
                 continue
             flag = self.model.new_bool_var(f"differs[{name}]")
@@ -190,13 +194,14 @@ class _Builder:
         self.scenario = scenario
         self.relaxable = relaxable
         self.model = cp_model.CpModel()
-        self.unit = _common_unit(frequency for s in scenario.sources for frequency in s.candidates)
+        self.units: dict[str, Fraction] = {}
+        """Each clock is units[node] × amount / count."""
         self.amount: dict[str, _Term] = {}
         self.count: dict[str, _Term] = {}
         self.roots: dict[str, dict[str, cp_model.LinearExprT | bool]] = {}
         self.rates: list[_Rate] = []
         self.handles = ClockModel(
-            scenario, self.model, self.unit, 0, self.model.new_int_var(0, 0, "unset")
+            scenario, self.model, {}, 0, self.model.new_int_var(0, 0, "unset")
         )
 
     def guard(self, key: str, text: str, **extra: object) -> list[cp_model.IntVar]:
@@ -248,13 +253,19 @@ class _Builder:
     # -- limits --------------------------------------------------------------------------------
 
     def frequency_between(
-        self, node: str, amount: _Term, count: _Term, low: Fraction | None, high: Fraction | None
+        self,
+        node: str,
+        unit: Fraction,
+        amount: _Term,
+        count: _Term,
+        low: Fraction | None,
+        high: Fraction | None,
     ) -> None:
         """low ≤ unit · amount / count ≤ high, as exact integer inequalities."""
         for bound, sense in ((low, 1), (high, -1)):
             if bound is None or bound <= 0 and sense == 1:
                 continue
-            ratio = bound / self.unit  # amount vs ratio · count
+            ratio = bound / unit  # amount vs ratio · count
             _check(ratio.denominator * amount.high, node)
             _check(ratio.numerator * count.high, node)
             left = ratio.denominator * amount.expr
@@ -287,12 +298,15 @@ class _Builder:
 
     def add_source(self, name: str) -> None:
         source = self.scenario.source(name)
-        values = sorted({int(frequency / self.unit) for frequency in source.candidates})
+        unit = _common_unit(source.candidates)
+        self.units[name] = unit
+        self.handles.source_units[name] = unit
+        values = sorted({int(frequency / unit) for frequency in source.candidates})
         _check(values[-1], name)
         var = self.model.new_int_var_from_domain(cp_model.Domain.from_values(values), f"x[{name}]")
         self.handles.source_values[name] = var
         if len(values) > 1 and self.handles.preference is None:
-            order = [int(frequency / self.unit) for frequency in source.candidates]
+            order = [int(frequency / unit) for frequency in source.candidates]
             position = self.model.new_int_var(0, len(order) - 1, f"preference[{name}]")
             self.model.add_element(position, order, var)
             self.handles.preference = position
@@ -320,10 +334,12 @@ class _Builder:
             _Term(reference, min(pll.reference_divider), max(pll.reference_divider)),
             f"count_pfd[{pll.name}]",
         )
-        self.frequency_between(f"{pll.name} PFD", amount_in, divided, *pll.pfd)
+        unit = self.units[pll.input]
+        self.frequency_between(f"{pll.name} PFD", unit, amount_in, divided, *pll.pfd)
         amount = self.product(amount_in, feedback, f"amount[{pll.name}]")
         count = self.product(divided, _Term(modulus, modulus, modulus), f"count[{pll.name}]")
-        self.frequency_between(f"{pll.name} VCO", amount, count, *pll.vco)
+        self.frequency_between(f"{pll.name} VCO", unit, amount, count, *pll.vco)
+        self.units[pll.name] = unit
         self.amount[pll.name], self.count[pll.name] = amount, count
         self.roots[pll.name] = self.roots[pll.input]
 
@@ -337,18 +353,30 @@ class _Builder:
             f"count[{divider.name}]",
         )
         amount = self.amount[divider.input]
-        self.frequency_between(divider.name, amount, count, divider.minimum, divider.maximum)
+        unit = self.units[divider.input]
+        self.units[divider.name] = unit
+        self.frequency_between(divider.name, unit, amount, count, divider.minimum, divider.maximum)
         self.amount[divider.name], self.count[divider.name] = amount, count
         self.roots[divider.name] = self.roots[divider.input]
         if divider.fastest:
-            self.add_fastest(divider.name, amount, count, divider.maximum)
+            self.handles.fastest.append(
+                self.floor_hertz(divider.name, unit, amount, count, divider.maximum)
+            )
 
     def add_mux(self, mux) -> None:  # type: ignore[no-untyped-def]
         key = f"{mux.name}.input"
         selector = self.model.new_int_var(0, len(mux.inputs) - 1, key)
         self.handles.settings[key] = selector
         self.handles.mux_inputs[mux.name] = mux.inputs
-        amounts = [self.amount[name] for name in mux.inputs]
+        # a common unit for the inputs: each input's amount scaled by a whole factor
+        unit = _common_unit(self.units[name] for name in mux.inputs)
+        self.units[mux.name] = unit
+        amounts = []
+        for name in mux.inputs:
+            factor = int(self.units[name] / unit)
+            term = self.amount[name]
+            _check(factor * term.high, mux.name)
+            amounts.append(_Term(factor * term.expr, factor * term.low, factor * term.high))
         counts = [self.count[name] for name in mux.inputs]
         amount_var = self.model.new_int_var(
             min(t.low for t in amounts), max(t.high for t in amounts), f"amount[{mux.name}]"
@@ -372,7 +400,7 @@ class _Builder:
                     roots.setdefault(root, []).append(both)
         amount = _Term(amount_var, _lower(amount_var), _upper(amount_var))
         count = _Term(count_var, _lower(count_var), _upper(count_var))
-        self.frequency_between(mux.name, amount, count, None, mux.maximum)
+        self.frequency_between(mux.name, unit, amount, count, None, mux.maximum)
         self.amount[mux.name], self.count[mux.name] = amount, count
         self.roots[mux.name] = {}
         for root, ways in roots.items():
@@ -380,19 +408,16 @@ class _Builder:
             self.model.add(flag == sum(ways))
             self.roots[mux.name][root] = flag
 
-    def add_fastest(self, name: str, amount: _Term, count: _Term, maximum: Fraction | None) -> None:
-        self.handles.fastest.append(self.floor_hertz(name, amount, count, maximum))
-
     def floor_hertz(
-        self, name: str, amount: _Term, count: _Term, maximum: Fraction | None
+        self, name: str, unit: Fraction, amount: _Term, count: _Term, maximum: Fraction | None
     ) -> cp_model.IntVar:
         """A variable at most unit · amount / count hertz: the clock's floor once maximised."""
-        high = maximum if maximum is not None else self.unit * Fraction(amount.high, count.low)
+        high = maximum if maximum is not None else unit * Fraction(amount.high, count.low)
         hertz = self.model.new_int_var(0, math.floor(high), f"hertz[{name}]")
         scaled = self.product(_Term(hertz, 0, math.floor(high)), count, f"hertz_count[{name}]")
-        _check(self.unit.denominator * scaled.high, name)
-        _check(self.unit.numerator * amount.high, name)
-        self.model.add(self.unit.denominator * scaled.expr <= self.unit.numerator * amount.expr)
+        _check(unit.denominator * scaled.high, name)
+        _check(unit.numerator * amount.high, name)
+        self.model.add(unit.denominator * scaled.expr <= unit.numerator * amount.expr)
         return hertz
 
     # -- rates ---------------------------------------------------------------------------------
@@ -403,8 +428,9 @@ class _Builder:
         choices = requirement.choices
         widest = max(option.allowance for option in choices)
         # achieved / target = (unit·numerator·amount) / (target·count·divisor)
-        top = self.unit.numerator * target.denominator * requirement.numerator
-        scale = target.numerator * self.unit.denominator
+        unit = self.units[node]
+        top = unit.numerator * target.denominator * requirement.numerator
+        scale = target.numerator * unit.denominator
         _check(top * amount.high, requirement.setting)
         if requirement.stages:
             literals: list[cp_model.LinearExprT | bool] = [True]
@@ -512,7 +538,9 @@ class _Builder:
             requirement.numerator * amount.high,
         )
         self.handles.ceilings.append(
-            self.floor_hertz(requirement.setting, achieved, count, requirement.target)
+            self.floor_hertz(
+                requirement.setting, self.units[node], achieved, count, requirement.target
+            )
         )
 
     def add_objective(self) -> None:
