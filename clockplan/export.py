@@ -23,7 +23,8 @@ def result_to_data(result: SearchResult) -> dict[str, Any]:
         "status": result.status.value,
         "time_limited": result.time_limited,
         "elapsed_s": round(result.elapsed, 3),
-        "error_precision_digits": result.precision,
+        "error_precision_digits": result.precisions,
+        "rounded_limits": sorted(result.rounded_limits),
         "plans": [plan_to_data(result, ranked) for ranked in result.plans],
     }
 

@@ -22,7 +22,7 @@ def rate_key(error: Fraction, budget: Fraction, allowance: Fraction, precision: 
     return math.ceil(SHARE_STEPS * (rounded + budget) / allowance)
 
 
-def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
+def best_key(scenario: Scenario, precision: int | dict[str, int]) -> tuple[int, Fraction] | None:
     """The smallest worst-share key over every plan, and the smallest exact worst share."""
     choices: list[tuple[str, list[object]]] = []
     for source in scenario.sources:
@@ -63,7 +63,8 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
                     key = -1
                     break
                 keys = [
-                    (rate_key(e, budget, a, precision), (abs(e) + budget) / a) for e, a in feasible
+                    (rate_key(e, budget, a, _digits(precision, requirement)), (abs(e) + budget) / a)
+                    for e, a in feasible
                 ]
                 best_rate = min(keys)
                 key = max(key, best_rate[0])
@@ -75,6 +76,11 @@ def best_key(scenario: Scenario, precision: int) -> tuple[int, Fraction] | None:
         if best is None or (key, share) < best:
             best = (key, share)
     return best
+
+
+def _digits(precision: int | dict[str, int], requirement) -> int:  # type: ignore[no-untyped-def]
+    """The rounding the solver used for this rate (one figure for all, or per rate)."""
+    return precision if isinstance(precision, int) else precision[requirement.setting]
 
 
 def _divisors(requirement, option):  # type: ignore[no-untyped-def]

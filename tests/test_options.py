@@ -66,7 +66,7 @@ def test_options_and_ceilings_match_the_oracle(requirements):
     scenario = with_requirements(*requirements)
     result = search(scenario, top=3)
     assert result.status is Status.OPTIMAL
-    key, share = best_key(scenario, result.precision)
+    key, share = best_key(scenario, result.precisions)
     assert result.plans[0].worst_steps == key
     for ranked in result.plans:
         evaluation = evaluate_plan(scenario, ranked.plan)
@@ -123,7 +123,7 @@ def test_stages_multiply_to_the_divisor_and_match_the_oracle():
     scenario = with_requirements(timer_rate())
     result = search(scenario, top=2)
     assert result.status is Status.OPTIMAL
-    assert result.plans[0].worst_steps == best_key(scenario, result.precision)[0]
+    assert result.plans[0].worst_steps == best_key(scenario, result.precisions)[0]
     for ranked in result.plans:
         settings = ranked.plan.settings
         (check,) = evaluate_plan(scenario, ranked.plan).checks

@@ -62,4 +62,4 @@ def test_returned_plans_satisfy_every_limit_when_re_evaluated(text):
         assert evaluation.violations == ()
         assert evaluation.feasible
     if result.status is Status.INFEASIBLE:
-        assert best_key(scenario, result.precision) is None
+        assert best_key(scenario, result.precisions) is None

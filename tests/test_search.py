@@ -99,7 +99,7 @@ SMALL = {
 def test_solver_optimum_equals_the_brute_force_oracle(name):
     scenario = scenario_from(SMALL[name], f"{name}.toml")
     result = search(scenario, top=1, time_limit=30)
-    oracle = best_key(scenario, result.precision)
+    oracle = best_key(scenario, result.precisions)
     assert oracle is not None
     assert result.status is Status.OPTIMAL
     best = result.plans[0]

@@ -101,7 +101,8 @@ class ClockModel:
     model: cp_model.CpModel
     source_units: dict[str, Fraction]
     """Each source's frequency is its unit × its integer variable."""
-    precision: int
+    precisions: dict[str, int]
+    """Digits of each rate's synthesis error in the objective (10**-p, rounded up)."""
     worst: cp_model.IntVar
     """Worst share of an allowance in steps of 1/SHARE_STEPS (the primary objective)."""
     source_values: dict[str, cp_model.IntVar] = field(default_factory=dict)
@@ -113,6 +114,8 @@ class ClockModel:
     """Floors of the rates under a ceiling, hertz (maximised after the fastest clocks)."""
     shares: list[cp_model.IntVar] = field(default_factory=list)
     """Each rate's share of its allowance in steps (their sum is the third objective)."""
+    rounded_limits: set[str] = field(default_factory=set)
+    """Rates whose hard limit had to use the rounded-up error (64-bit room ran out)."""
     limits: dict[str, Limit] = field(default_factory=dict)
     """Guarded limits by key (only in a relaxable model), in the order they were built."""
     preference: cp_model.IntVar | None = None
@@ -165,7 +168,7 @@ class ClockModel:
         differs = []
         for name, frequency in chosen.items():
             var = self.source_values[name]
-            value = int(frequency / self.source_units[name])
+            value = _whole_multiple(frequency, self.source_units[name])
             if len(self.scenario.source(name).candidates) == 1:
                 continue
             flag = self.model.new_bool_var(f"differs[{name}]")
@@ -201,7 +204,7 @@ class _Builder:
         self.roots: dict[str, dict[str, cp_model.LinearExprT | bool]] = {}
         self.rates: list[_Rate] = []
         self.handles = ClockModel(
-            scenario, self.model, {}, 0, self.model.new_int_var(0, 0, "unset")
+            scenario, self.model, {}, {}, self.model.new_int_var(0, 0, "unset")
         )
 
     def guard(self, key: str, text: str, **extra: object) -> list[cp_model.IntVar]:
@@ -216,9 +219,13 @@ class _Builder:
     # -- variables -----------------------------------------------------------------------------
 
     def choice(self, name: str, values: Divisors) -> cp_model.IntVar:
-        """An integer variable over an allowed-value set."""
-        if isinstance(values, range) and values.step == 1:
-            return self.model.new_int_var(values.start, values.stop - 1, name)
+        """An integer variable over an allowed-value set (a stepped range via a counter)."""
+        if isinstance(values, range):
+            var = self.model.new_int_var(values[0], values[-1], name)
+            if values.step > 1 and len(values) > 1:
+                steps = self.model.new_int_var(0, len(values) - 1, f"{name}/step")
+                self.model.add(var == values.start + values.step * steps)
+            return var
         domain = cp_model.Domain.from_values(list(values))
         return self.model.new_int_var_from_domain(domain, name)
 
@@ -301,12 +308,12 @@ class _Builder:
         unit = _common_unit(source.candidates)
         self.units[name] = unit
         self.handles.source_units[name] = unit
-        values = sorted({int(frequency / unit) for frequency in source.candidates})
+        order = [_whole_multiple(frequency, unit) for frequency in source.candidates]
+        values = sorted(set(order))
         _check(values[-1], name)
         var = self.model.new_int_var_from_domain(cp_model.Domain.from_values(values), f"x[{name}]")
         self.handles.source_values[name] = var
         if len(values) > 1 and self.handles.preference is None:
-            order = [int(frequency / unit) for frequency in source.candidates]
             position = self.model.new_int_var(0, len(order) - 1, f"preference[{name}]")
             self.model.add_element(position, order, var)
             self.handles.preference = position
@@ -436,15 +443,20 @@ class _Builder:
             literals: list[cp_model.LinearExprT | bool] = [True]
             divisor_term = self.stage_product(requirement)
         else:
-            domains = [_domain(option.divisors) for option in choices]
-            union = domains[0]
-            for domain in domains[1:]:
-                union = union.union_with(domain)
-            divisor = self.model.new_int_var_from_domain(union, requirement.setting)
+            if len(choices) == 1:
+                divisor = self.choice(requirement.setting, choices[0].divisors)
+                literals = [True]
+            else:
+                domains = [_domain(option.divisors) for option in choices]
+                union = domains[0]
+                for domain in domains[1:]:
+                    union = union.union_with(domain)
+                divisor = self.model.new_int_var_from_domain(union, requirement.setting)
+                literals = self.option_literals(requirement, divisor, domains)
             self.handles.settings[requirement.setting] = divisor
-            literals = self.option_literals(requirement, divisor, domains)
-            values = union.flattened_intervals()
-            divisor_term = _Term(divisor, values[0], values[-1])
+            low = min(min(option.divisors) for option in choices)
+            high = max(max(option.divisors) for option in choices)
+            divisor_term = _Term(divisor, low, high)
         count = self.product(count_in, divisor_term, f"count[{requirement.setting}]")
         if requirement.ceiling:
             self.add_ceiling(requirement, node, amount, count, top, scale)
@@ -544,14 +556,14 @@ class _Builder:
         )
 
     def add_objective(self) -> None:
-        precision = self.choose_precision()
-        self.handles.precision = precision
         top_share = max((self.share_high(rate) for rate in self.rates), default=SHARE_STEPS)
         worst = self.model.new_int_var(0, top_share, "worst_share_steps")
         self.handles.worst = worst
-        power = 10**precision
         for rate in self.rates:
             requirement = rate.requirement
+            precision = self.choose_precision(rate)
+            self.handles.precisions[requirement.setting] = precision
+            power = 10**precision
             share = self.model.new_int_var(
                 0, self.share_high(rate), f"share_steps[{requirement.setting}]"
             )
@@ -583,12 +595,21 @@ class _Builder:
                     room = option.allowance - budget
                     if room < 0:  # this source can never serve it
                         self.model.add_bool_or([~lit for lit in enforce + held])
-                    else:  # hard: |error| ≤ allowance − budget
-                        _check(room.denominator * rate.deviation_bound, requirement.setting)
-                        _check(room.numerator * rate.scale * rate.count.high, requirement.setting)
+                    elif (
+                        max(
+                            room.denominator * rate.deviation_bound,
+                            room.numerator * rate.scale * rate.count.high,
+                        )
+                        < LIMIT
+                    ):  # hard: |error| ≤ allowance − budget, exactly
                         self.model.add(
                             room.denominator * magnitude <= room.numerator * denominator
                         ).only_enforce_if(enforce + held)
+                    else:  # too wide for 64 bits: on the error rounded up (stricter by < 1 step)
+                        self.model.add(steps <= math.floor(room * power)).only_enforce_if(
+                            enforce + held
+                        )
+                        self.handles.rounded_limits.add(requirement.setting)
                     # share ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly
                     allowance = option.allowance
                     left = allowance.numerator * budget.denominator * power
@@ -606,37 +627,29 @@ class _Builder:
         budgets = [self.scenario.source(root).budget for root in self.roots[rate.node]]
         return rate.share_high(budgets, self.relaxable)
 
-    def choose_precision(self) -> int:
-        """The finest 10**-p for synthesis errors that keeps every term below LIMIT."""
+    def choose_precision(self, rate: _Rate) -> int:
+        """The finest 10**-p for this rate's synthesis error that keeps its terms below LIMIT."""
         for precision in range(MAX_PRECISION, -1, -1):
             power = 10**precision
+            if power * rate.deviation_bound + rate.scale * rate.count.high >= LIMIT:
+                continue
+            steps_high = self.steps_high(rate, power)
             fits = True
-            for rate in self.rates:
-                if power * rate.deviation_bound + rate.scale * rate.count.high >= LIMIT:
-                    fits = False
-                    break
-                steps_high = self.steps_high(rate, power)
-                for root in self.roots[rate.node]:
-                    budget = self.scenario.source(root).budget
-                    for option, _ in rate.options:
-                        allowance = option.allowance
-                        terms = (
-                            allowance.numerator
-                            * budget.denominator
-                            * power
-                            * self.share_high(rate),
-                            SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
-                            + SHARE_STEPS * allowance.denominator * budget.numerator * power,
-                        )
-                        if max(terms) >= LIMIT:
-                            fits = False
-                if not fits:
-                    break
+            for root in self.roots[rate.node]:
+                budget = self.scenario.source(root).budget
+                for option, _ in rate.options:
+                    allowance = option.allowance
+                    terms = (
+                        allowance.numerator * budget.denominator * power * self.share_high(rate),
+                        SHARE_STEPS * allowance.denominator * budget.denominator * steps_high
+                        + SHARE_STEPS * allowance.denominator * budget.numerator * power,
+                    )
+                    fits = fits and max(terms) < LIMIT
             if fits:
                 return precision
         raise ModelTooLargeError(
-            "the scenario's numbers are too large for 64-bit integers even at whole-unit error "
-            "precision; narrow the divider ranges or fraction bits"
+            f"{rate.requirement.setting}: the numbers are too large for 64-bit integers even at "
+            "whole-unit error precision; narrow the divider ranges or fraction bits"
         )
 
 
@@ -655,6 +668,11 @@ def _check(value: int, where: str) -> None:
             f"{where}: the model would need integers of {value.bit_length()} bits (at most 62); "
             "narrow its ranges, fraction bits or the candidate frequencies"
         )
+
+
+def _whole_multiple(frequency: Fraction, unit: Fraction) -> int:
+    """frequency / unit, known to be whole, without Fraction's slow division."""
+    return (frequency.numerator * unit.denominator) // (frequency.denominator * unit.numerator)
 
 
 def _domain(values: Divisors) -> cp_model.Domain:

@@ -2,10 +2,12 @@
 
 Rank 1 is the proven best plan overall; rank k is the proven best plan among the
 oscillator choices not yet ranked. Each rank is solved in two stages: first the
-worst share of an allowance is minimised; then, holding it, the tie-breakers in
-order: clocks marked "fastest" as fast as allowed, the smallest sum of every
-rate's share, the earlier candidate frequency (catalog or list order), the
-smallest sum of settings. Both stages are proved optimal, so the plan does not
+worst share of an allowance is minimised (its status is the plan's status); then,
+holding it, the tie-breakers in order: clocks marked "fastest" as fast as allowed,
+rates under a ceiling as fast as allowed, the smallest sum of every rate's share,
+the earlier candidate frequency (catalog or list order), the smallest sum of
+settings. The second stage may take TIE_BREAK_SECONDS or three times the first,
+whichever is more; when it is proved too (``tie_breaks_proved``), the plan does not
 depend on how many workers CP-SAT runs, save for exact ties on all of these.
 """
 
@@ -27,6 +29,8 @@ __all__ = ["Status", "RankedPlan", "SearchResult", "search", "DEFAULT_TIME_LIMIT
 
 DEFAULT_TIME_LIMIT = 60.0
 """Seconds the whole search may take unless the caller says otherwise."""
+TIE_BREAK_SECONDS = 2.0
+"""The tie-breaking stage may take this long, or three times the first stage, whichever is more."""
 DEFAULT_WORKERS = 8
 """CP-SAT search workers (threads); its portfolio pays even on two cores."""
 
@@ -54,6 +58,8 @@ class RankedPlan:
     status: Status
     worst_steps: int
     """The objective as the solver saw it: worst share in steps of 1/SHARE_STEPS."""
+    tie_breaks_proved: bool = True
+    """Whether the tie-breaking stage was proved too (it has a shorter time limit)."""
 
 
 @dataclass(frozen=True)
@@ -64,12 +70,19 @@ class SearchResult:
     status: Status
     """Status of rank 1 (the answer to "what is the best plan?")."""
     plans: tuple[RankedPlan, ...]
-    precision: int
-    """Synthesis errors entered the objective rounded up to 10**-precision."""
+    precisions: dict[str, int]
+    """Each rate's synthesis error entered the objective rounded up to 10**-digits."""
     elapsed: float
     """Seconds spent searching."""
     time_limited: bool
     """Whether the time limit cut any part of the search short."""
+    rounded_limits: frozenset[str] = frozenset()
+    """Rates whose hard limit was checked on the rounded-up error (64-bit room ran out)."""
+
+    @property
+    def precision(self) -> int:
+        """The coarsest rounding of any rate's error in the objective, in decimal digits."""
+        return min(self.precisions.values(), default=9)
 
 
 _STATUS = {
@@ -99,14 +112,23 @@ def search(
         if progress:
             progress(rank - 1, top)
         found = _solve_rank(handles, deadline, workers)
-        plan, rank_status, steps, limited = found
-        time_limited |= limited
+        time_limited |= found.time_limited
         if rank == 1:
-            status = rank_status
-        if rank_status in (Status.INFEASIBLE, Status.UNKNOWN):
+            status = found.status
+        if found.status in (Status.INFEASIBLE, Status.UNKNOWN):
             break
-        plans.append(RankedPlan(rank, plan, evaluate_plan(scenario, plan), rank_status, steps))
-        handles.forbid_sources(plan.sources)
+        evaluation = evaluate_plan(scenario, found.plan)
+        plans.append(
+            RankedPlan(
+                rank,
+                found.plan,
+                evaluation,
+                found.status,
+                found.worst_steps,
+                found.tie_breaks_proved,
+            )
+        )
+        handles.forbid_sources(found.plan.sources)
         if time.monotonic() >= deadline:
             time_limited = True
             break
@@ -115,37 +137,52 @@ def search(
     if progress:
         progress(top, top)
     return SearchResult(
-        scenario, status, tuple(plans), handles.precision, time.monotonic() - started, time_limited
+        scenario,
+        status,
+        tuple(plans),
+        dict(handles.precisions),
+        time.monotonic() - started,
+        time_limited,
+        frozenset(handles.rounded_limits),
     )
 
 
-def _solve_rank(
-    handles: ClockModel, deadline: float, workers: int
-) -> tuple[Plan, Status, int, bool]:
+@dataclass(frozen=True)
+class _Rank:
+    plan: Plan
+    status: Status
+    worst_steps: int
+    time_limited: bool
+    tie_breaks_proved: bool
+
+
+def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
     model = handles.model
     model.clear_hints()
     model.minimize(handles.worst)
+    began = time.monotonic()
     first = _run(model, deadline, workers)
     status = _STATUS.get(first.status, Status.UNKNOWN)
     limited = first.status == cp_model.UNKNOWN or first.status == cp_model.FEASIBLE
     if status in (Status.INFEASIBLE, Status.UNKNOWN):
-        return (Plan({}, {}), status, SHARE_STEPS + 1, limited)
+        return _Rank(Plan({}, {}), status, SHARE_STEPS + 1, limited, False)
     steps = int(first.solver.value(handles.worst))
     plan = handles.read_plan(first.solver)
+    proved = True
     if handles.settings or handles.preference is not None:
         _hint(handles, first.solver)
         holding = model.new_bool_var(f"hold_worst_{steps}")
         model.add(handles.worst <= steps).only_enforce_if(holding)
         model.add_assumptions([holding])
         model.maximize(handles.tie_breaker())
-        second = _run(model, deadline, workers)
+        tie_deadline = time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
+        second = _run(model, min(deadline, tie_deadline), workers)
         model.clear_assumptions()
         if second.status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
             plan = handles.read_plan(second.solver)
-        if second.status != cp_model.OPTIMAL:
-            status, limited = Status.FEASIBLE, True
+        proved = second.status == cp_model.OPTIMAL
         model.clear_hints()
-    return plan, status, steps, limited
+    return _Rank(plan, status, steps, limited, proved)
 
 
 @dataclass
