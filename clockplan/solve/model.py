@@ -121,34 +121,23 @@ class ClockModel:
     preference: cp_model.IntVar | None = None
     """Position of the chosen frequency in the first choosing source's list (last tie-breaker)."""
 
-    def tie_breaker(self) -> cp_model.LinearExprT:
-        """Fastest clocks, then the smallest sum of shares, the earlier candidate, smaller settings.
+    def tie_breakers(self) -> list[cp_model.LinearExprT]:
+        """Expressions to maximise in turn once the worst share is held, most important first.
 
-        Weighted so that each term outranks everything after it (a lexicographic order);
-        a term whose weight would overflow 64 bits is left out, with every term after it.
+        Clocks marked "fastest", then rates under a ceiling (both as fast as allowed), then
+        the smallest sum of shares, the earlier candidate frequency, the smaller settings.
         """
-        terms: list[tuple[cp_model.LinearExprT, int]] = []  # (expression to maximise, span)
+        stages: list[cp_model.LinearExprT] = []
         for group in (self.fastest, self.ceilings):
             if group:
-                terms.append((sum(group), sum(_upper(var) for var in group) + 1))
-        terms.append((-sum(self.shares), SHARE_STEPS * len(self.shares) + 1))
+                stages.append(sum(group))
+        if len(self.shares) > 1:
+            stages.append(-sum(self.shares))
         if self.preference is not None:
-            terms.append((-self.preference, _upper(self.preference) + 1))
-        settings = list(self.settings.values())
-        terms.append((-sum(settings), sum(_upper(var) for var in settings) + 1))
-        objective: cp_model.LinearExprT = 0
-        weight = 1
-        kept = []
-        for expression, span in terms:
-            if weight * span >= LIMIT:
-                break
-            kept.append((expression, span))
-            weight *= span
-        weight = 1
-        for expression, span in reversed(kept):
-            objective += weight * expression
-            weight *= span
-        return objective
+            stages.append(-self.preference)
+        if self.settings:
+            stages.append(-sum(self.settings.values()))
+        return stages
 
     def read_plan(self, solver: cp_model.CpSolver) -> Plan:
         """The plan in the solver's current solution."""

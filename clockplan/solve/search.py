@@ -169,19 +169,28 @@ def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
     steps = int(first.solver.value(handles.worst))
     plan = handles.read_plan(first.solver)
     proved = True
-    if handles.settings or handles.preference is not None:
-        _hint(handles, first.solver)
-        holding = model.new_bool_var(f"hold_worst_{steps}")
-        model.add(handles.worst <= steps).only_enforce_if(holding)
-        model.add_assumptions([holding])
-        model.maximize(handles.tie_breaker())
-        tie_deadline = time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
-        second = _run(model, min(deadline, tie_deadline), workers)
+    holding = [_hold(model, handles.worst, steps)]
+    tie_deadline = min(
+        deadline, time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
+    )
+    solver = first.solver
+    for expression in handles.tie_breakers():
+        _hint(handles, solver)
         model.clear_assumptions()
-        if second.status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
-            plan = handles.read_plan(second.solver)
-        proved = second.status == cp_model.OPTIMAL
+        model.add_assumptions(holding)
+        model.maximize(expression)
+        run = _run(model, tie_deadline, workers)
         model.clear_hints()
+        if run.status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            proved = False
+            break
+        solver = run.solver
+        plan = handles.read_plan(solver)
+        if run.status != cp_model.OPTIMAL:
+            proved = False
+            break
+        holding.append(_hold(model, expression, int(solver.value(expression)), at_least=True))
+    model.clear_assumptions()
     return _Rank(plan, status, steps, limited, proved)
 
 
@@ -198,6 +207,16 @@ def _run(model: cp_model.CpModel, deadline: float, workers: int) -> _Run:
     solver.parameters.random_seed = 1
     status = solver.solve(model)
     return _Run(solver, status)
+
+
+def _hold(
+    model: cp_model.CpModel, expression: cp_model.LinearExprT, value: int, *, at_least: bool = False
+) -> cp_model.IntVar:
+    """A literal that, assumed, keeps ``expression`` at ``value`` (≥ it, or ≤ it for the worst)."""
+    literal = model.new_bool_var(f"hold_{len(model.proto.variables)}")
+    constraint = expression >= value if at_least else expression <= value
+    model.add(constraint).only_enforce_if(literal)
+    return literal
 
 
 def _hint(handles: ClockModel, solver: cp_model.CpSolver) -> None:
