@@ -158,5 +158,12 @@ def explanation_text(explanation: Explanation) -> Text:
     text.append("Closest plans with one limit let go:\n", style="bold")
     for relaxation in explanation.relaxations:
         text.append(f'  - without "{relaxation.limit}": {relaxation.advice}\n')
+    if explanation.beyond_sources:
+        text.append(
+            "No setting can save these rates; their oscillators alone are too loose:\n",
+            style="bold",
+        )
+        for line in explanation.beyond_sources:
+            text.append(f"  - {line}\n")
     text.rstrip()
     return text

@@ -103,3 +103,18 @@ def test_check_bad_file_exits_2(tmp_path, capsys):
     path = tmp_path / "bad.toml"
     path.write_text("[sources.main]\nkind = 3\n")
     assert main(["check", str(path)]) == 2
+
+
+def test_switching_to_the_internal_rc_names_every_rate_that_breaks_and_by_how_much():
+    # The same board is exact with a crystal (above). The chip's internal RC oscillator
+    # (default budget 1 % trimmed + 2 % over temperature = 3 %, typical figures, common
+    # practice) cannot hold USB's ±0.25 % (USB 2.0 §7.1.11) nor the UART's 7/306 ≈ 2.29 %
+    # per end (derived for 8N1 at 16×, tests/test_standards.py).
+    scenario = scenario_from(USB_BOARD.format(kind="internal-rc"))
+    explanation = explain_infeasibility(scenario)
+    assert explanation.beyond_sources == (
+        "usb (48 MHz kernel) allows 0.25 %, but main (internal-rc) alone has a budget of 3 %: "
+        "over by 2.75 %",
+        "console (115200 baud) allows 2.2876 %, but main (internal-rc) alone has a budget of "
+        "3 %: over by 0.7124 %",
+    )

@@ -52,6 +52,7 @@ def run(args: argparse.Namespace) -> int:
             "best": plan_to_data(result, best) if best else None,
             "conflict": list(explanation.conflict) if explanation else [],
             "conflict_is_minimal": explanation.minimal if explanation else None,
+            "beyond_sources": list(explanation.beyond_sources) if explanation else [],
             "relaxations": [{"limit": r.limit, "advice": r.advice} for r in explanation.relaxations]
             if explanation
             else [],

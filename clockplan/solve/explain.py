@@ -20,6 +20,7 @@ from clockplan.plan import Plan
 from clockplan.quantities import format_relative
 from clockplan.scenario import Scenario
 from clockplan.solve.model import ClockModel, Limit, build_model
+from clockplan.tree import feeding_source_names
 
 __all__ = ["Relaxation", "Explanation", "explain_infeasibility"]
 
@@ -45,16 +46,20 @@ class Explanation:
     minimal: bool
     """Whether the deletion pass finished (every member is needed for the conflict)."""
     relaxations: tuple[Relaxation, ...]
+    beyond_sources: tuple[str, ...] = ()
+    """Rates that no setting can save: every source that may feed them has a budget
+    larger than their allowance (each alone is a conflict; all are listed here)."""
 
 
 def explain_infeasibility(scenario: Scenario, *, time_limit: float = 30.0) -> Explanation:
     """Name a minimal set of conflicting limits of ``scenario`` and how to relax each."""
     deadline = time.monotonic() + time_limit
+    beyond = beyond_sources(scenario)
     handles = build_model(scenario, relaxable=True)
     limits = list(handles.limits.values())
     status, solver = _solve(handles, limits, deadline)
     if status != cp_model.INFEASIBLE:
-        return Explanation((), False, ())
+        return Explanation((), False, (), beyond)
     by_index = {limit.literal.index: limit for limit in limits}
     core = [by_index[i] for i in solver.sufficient_assumptions_for_infeasibility() if i in by_index]
     minimal = True
@@ -67,7 +72,28 @@ def explain_infeasibility(scenario: Scenario, *, time_limit: float = 30.0) -> Ex
             minimal = False
             break
     relaxations = tuple(_relax(scenario, handles, limits, limit, deadline) for limit in core)
-    return Explanation(tuple(limit.text for limit in core), minimal, relaxations)
+    return Explanation(tuple(limit.text for limit in core), minimal, relaxations, beyond)
+
+
+def beyond_sources(scenario: Scenario) -> tuple[str, ...]:
+    """Rates whose allowance is smaller than the budget of every source that may feed them."""
+    found = []
+    for peripheral in scenario.peripherals:
+        sources = [
+            scenario.source(name) for name in feeding_source_names(scenario, peripheral.clock)
+        ]
+        tightest = min(sources, key=lambda source: source.budget)
+        for requirement in peripheral.requirements:
+            allowance = max(option.allowance for option in requirement.choices)
+            if requirement.ceiling or tightest.budget <= allowance:
+                continue
+            found.append(
+                f"{requirement.peripheral} ({requirement.label}) allows "
+                f"{format_relative(allowance)}, but {tightest.name} ({tightest.kind}) alone "
+                f"has a budget of {format_relative(tightest.budget)}: over by "
+                f"{format_relative(tightest.budget - allowance)}"
+            )
+    return tuple(found)
 
 
 def _solve(
