@@ -19,6 +19,7 @@ __all__ = [
     "share_text",
     "format_rate",
     "explanation_text",
+    "budget_table",
 ]
 
 _STATUS_WORDS = {
@@ -79,6 +80,29 @@ def ranking_table(result: SearchResult) -> Table:
             f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
             clocks,
             ranked.status.value,
+        )
+    return table
+
+
+def budget_table(result: SearchResult, ranked: RankedPlan) -> Table:
+    """Each oscillator's error budget: its terms, the worst case (sum) and the RSS."""
+    table = Table(title=f"Plan {ranked.rank}: oscillator budgets", title_justify="left")
+    headers = ("source", "kind", "frequency", "initial", "temp.", "aging", "pulling", "sum", "RSS")
+    for name in headers:
+        table.add_column(name, justify="left" if name in ("source", "kind") else "right")
+    for name, frequency in ranked.plan.sources.items():
+        source = result.scenario.source(name)
+        terms = source.terms
+        table.add_row(
+            name,
+            source.kind,
+            format_hz(frequency),
+            *(
+                format_relative(terms[key])
+                for key in ("tolerance", "stability", "aging", "pulling")
+            ),
+            format_relative(source.budget),
+            format_relative(source.budget_rss),
         )
     return table
 

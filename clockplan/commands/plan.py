@@ -12,7 +12,13 @@ from rich.progress import Progress
 
 from clockplan.errors import InputError
 from clockplan.export import result_to_data
-from clockplan.render import explanation_text, ranking_table, rates_table, status_line
+from clockplan.render import (
+    budget_table,
+    explanation_text,
+    ranking_table,
+    rates_table,
+    status_line,
+)
 from clockplan.scenario import default_scenario_path, load_scenario
 from clockplan.solve import SearchResult, Status, search
 from clockplan.solve.explain import explain_infeasibility
@@ -99,6 +105,7 @@ def run(args: argparse.Namespace) -> int:
         if result.plans:
             console.print(ranking_table(result))
             console.print(rates_table(result.plans[0]))
+            console.print(budget_table(result, result.plans[0]))
         elif result.status is Status.INFEASIBLE:
             explanation = explain_infeasibility(result.scenario, time_limit=args.time_limit)
             console.print(explanation_text(explanation))
