@@ -175,3 +175,83 @@ class Source:
     def budget_rss(self) -> float:
         """Root-sum-square of the terms: a statistical figure, shown beside the worst case."""
         return math.sqrt(sum(float(term) ** 2 for term in self.terms.values()))
+
+
+@dataclass(frozen=True)
+class ComponentFrequency:
+    """An oscillator's frequency computed from its parts, and how far the parts may move it."""
+
+    nominal: Fraction
+    """The formula's frequency rounded to 1 mHz, hertz."""
+    tolerance: Fraction
+    """Worst relative deviation from the parts' tolerances, plus the rounding, as a ratio."""
+
+
+_ROUNDING = Fraction(1, 1000)
+_FLOAT_GUARD = Fraction(1, 10**12)
+
+
+def _rounded(frequency: float) -> tuple[Fraction, Fraction]:
+    """The nominal to 1 mHz and the relative error that rounding (and float math) adds."""
+    nominal = Fraction(round(frequency * 1000), 1000)
+    if nominal <= 0:
+        raise ValueError("the parts give a frequency below 1 mHz")
+    return nominal, _ROUNDING / 2 / nominal + _FLOAT_GUARD
+
+
+def rc_oscillator(
+    r1: Fraction,
+    r2: Fraction,
+    capacitance: Fraction,
+    resistor_tolerance: Fraction,
+    capacitor_tolerance: Fraction,
+) -> ComponentFrequency:
+    """A 555-style astable: f = 1/(ln 2 · C · (R1 + 2·R2)), with the parts' worst case.
+
+    Source: the timer astable handbook formula (see circuits.rc_astable_frequency). The
+    frequency goes as 1/(R·C), so the worst relative rise is 1/((1 − tR)(1 − tC)) − 1,
+    which is larger than the worst fall 1 − 1/((1 + tR)(1 + tC)); the budget takes it.
+    """
+    from clockplan.circuits import rc_astable_frequency
+
+    nominal, rounding = _rounded(rc_astable_frequency(r1, r2, capacitance))
+    rise = 1 / ((1 - resistor_tolerance) * (1 - capacitor_tolerance)) - 1
+    return ComponentFrequency(nominal, rise + rounding)
+
+
+def lc_oscillator(
+    inductance: Fraction,
+    capacitance: Fraction,
+    inductor_tolerance: Fraction,
+    capacitor_tolerance: Fraction,
+) -> ComponentFrequency:
+    """An LC oscillator at the tank's resonance f = 1/(2π·√(L·C)), with the parts' worst case.
+
+    The frequency goes as 1/√(L·C): the worst relative rise 1/√((1 − tL)(1 − tC)) − 1 is
+    rounded up to 1e-12 (a square root is not rational) and taken as the budget.
+    """
+    from clockplan.circuits import lc_resonance_frequency
+
+    nominal, rounding = _rounded(lc_resonance_frequency(inductance, capacitance))
+    product = float((1 - inductor_tolerance) * (1 - capacitor_tolerance))
+    rise = Fraction(math.ceil((1 / math.sqrt(product) - 1) * 10**12), 10**12)
+    return ComponentFrequency(nominal, rise + rounding)
+
+
+def load_pulling(
+    specified_load: Fraction,
+    capacitors: tuple[Fraction, Fraction],
+    stray: Fraction,
+    motional: Fraction,
+    shunt: Fraction,
+) -> Fraction:
+    """How far the built circuit pulls the crystal from its specified load, as a ratio.
+
+    The built load is C1·C2/(C1 + C2) + stray; the shift between the two loads is
+    (Cm/2)·(1/(C0 + CL_built) − 1/(C0 + CL_specified)) (crystal makers' pulling formula,
+    see circuits.pulling). The budget takes its size.
+    """
+    from clockplan.circuits import load_capacitance, pulling
+
+    built = load_capacitance(capacitors[0], capacitors[1], stray)
+    return abs(pulling(motional, shunt, specified_load, built))
