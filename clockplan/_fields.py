@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import difflib
+import json
+import re
 from collections.abc import Callable
 from typing import Any, TypeVar
 
@@ -22,6 +24,9 @@ class _Missing:
 MISSING: Any = _Missing()
 """Marks a key that has no default: leaving it out is an error."""
 
+_BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
+"""A key TOML writes without quotes; any other key is shown quoted (and on one line)."""
+
 
 class Fields:
     """One table of a scenario file; each ``take`` names the key path in its errors."""
@@ -35,8 +40,9 @@ class Fields:
         self._used: set[str] = set()
 
     def key(self, name: str) -> str:
-        """The dotted key path of ``name`` inside this table."""
-        return f"{self.path}.{name}" if self.path else name
+        """The dotted key path of ``name`` inside this table, quoted as TOML would need it."""
+        written = name if _BARE_KEY.fullmatch(name) else json.dumps(name)
+        return f"{self.path}.{written}" if self.path else written
 
     def error(self, name: str, problem: str) -> ScenarioError:
         """An error located at ``name`` in this table."""
@@ -51,7 +57,10 @@ class Fields:
         self._used.add(name)
         if name not in self.table:
             if default is MISSING:
-                raise self.error(name, "is missing")
+                strays = [key for key in self.table if key not in self._used]
+                close = difflib.get_close_matches(name, strays, n=1, cutoff=0.6)
+                found = f" (found {close[0]!r}: misspelt?)" if close else ""
+                raise self.error(name, f"is missing{found}")
             return default  # type: ignore[no-any-return]
         try:
             return parse(self.table[name])

@@ -9,19 +9,36 @@ from __future__ import annotations
 import argparse
 import sys
 from collections.abc import Sequence
+from typing import NoReturn
 
 from clockplan import __version__
 from clockplan.commands import COMMAND_MODULES
 from clockplan.errors import ClockplanError
 
-__all__ = ["main", "main_entry", "build_parser"]
+__all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
 EXIT_BAD_INPUT = 2
 
 
+class OneLineParser(argparse.ArgumentParser):
+    """An argument parser whose usage errors are one line on standard error and exit 2.
+
+    Subparsers are made with the same class, so every subcommand's errors read alike.
+    """
+
+    def error(self, message: str) -> NoReturn:
+        """Report a usage error as ``clockplan: <message>`` and exit 2."""
+        self.exit(EXIT_BAD_INPUT, f"clockplan: {one_line(message)}; see '{self.prog} --help'\n")
+
+
+def one_line(message: str) -> str:
+    """``message`` with its line breaks shown as ``\\n``, so that it stays one line."""
+    return "\\n".join(message.splitlines())
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The whole argument parser, one subparser per command module."""
-    parser = argparse.ArgumentParser(
+    parser = OneLineParser(
         prog="clockplan",
         description="Choose reference oscillators and clock-tree settings so every peripheral "
         "gets a clock inside its tolerance.",
@@ -37,13 +54,16 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; return its exit status (0 ok, 1 no plan fits, 2 bad input)."""
     parser = build_parser()
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as stop:  # --help, --version, or a usage error already reported
+        return stop.code if isinstance(stop.code, int) else EXIT_BAD_INPUT
     try:
         return int(args.func(args))
     except ClockplanError as error:
         if args.debug:
             raise
-        print(f"clockplan: {error}", file=sys.stderr)
+        print(f"clockplan: {one_line(str(error))}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)

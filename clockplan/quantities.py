@@ -63,6 +63,15 @@ _INT = re.compile(r"^\s*[+-]?\d+\s*$")
 
 MAX_CHOICES = 1_000_000
 """The most integer choices one setting may list; more is a mistake or an explosion."""
+MAX_CHOICE = 2**62
+"""The largest value an integer setting may take: past it no 64-bit model can hold it."""
+MAX_NUMBER_DIGITS = 100
+"""The most digits (and the largest power of ten) a written number may have: past it,
+exact arithmetic would spend minutes on a number no board needs."""
+LOWEST_FREQUENCY = Fraction(1, 1000)
+"""1 mHz: the slowest frequency a scenario may name (a tick of once in 17 minutes)."""
+HIGHEST_FREQUENCY = Fraction(10**12)
+"""1 THz: the fastest frequency a scenario may name, far above any clock on a board."""
 
 
 class QuantityError(ValueError):
@@ -82,10 +91,31 @@ def parse_number(text: str | int | float) -> Fraction:
     if isinstance(text, float):
         if text != text or text in (float("inf"), float("-inf")):
             raise QuantityError(f"{text!r} is not a finite number")
-        return Fraction(repr(text))
+        return _exact(repr(text))
     if not isinstance(text, str) or not re.fullmatch(rf"\s*{_NUMBER}\s*", text):
         raise QuantityError(f"{text!r} is not a number")
-    return Fraction(text.strip())
+    return _exact(text.strip())
+
+
+def _exact(number: str) -> Fraction:
+    """``Fraction(number)`` for text matching ``_NUMBER``, refusing absurdly long or large ones."""
+    mantissa, _, exponent = number.lower().partition("e")
+    digits = sum(character.isdigit() for character in mantissa)
+    if (
+        digits > MAX_NUMBER_DIGITS
+        or len(exponent) > 6
+        or abs(int(exponent or 0)) > MAX_NUMBER_DIGITS
+    ):
+        raise QuantityError(
+            f"{_short(number)} has more than {MAX_NUMBER_DIGITS} digits or a power of ten past "
+            f"±{MAX_NUMBER_DIGITS}; no quantity on a board needs that"
+        )
+    return Fraction(number)
+
+
+def _short(text: str) -> str:
+    """``repr(text)``, cut to a readable length for error messages."""
+    return repr(text) if len(text) <= 40 else repr(text[:37] + "...")
 
 
 def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None = None) -> Fraction:
@@ -99,9 +129,10 @@ def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None 
     """
     table = _UNIT_TABLES[dimension]
     if isinstance(text, (int, float)) and not isinstance(text, bool):
+        number = parse_number(text)
         if bare_unit is None:
             raise QuantityError(f"{text!r} has no unit; write it like {_example(dimension)}")
-        return parse_number(text) * table[bare_unit]
+        return number * table[bare_unit]
     if not isinstance(text, str):
         raise QuantityError(f"{text!r} is not a {dimension} such as {_example(dimension)}")
     match = _QUANTITY.match(text)
@@ -115,8 +146,8 @@ def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None 
     factor = _lookup_unit(unit, table)
     if factor is None:
         known = ", ".join(table)
-        raise QuantityError(f"{text!r} has unit {unit!r}; expected one of {known}")
-    return Fraction(number) * factor
+        raise QuantityError(f"{_short(text)} has unit {_short(unit)}; expected one of {known}")
+    return _exact(number) * factor
 
 
 def _lookup_unit(unit: str, table: dict[str, Fraction] | dict[str, int]) -> Fraction | None:
@@ -140,6 +171,10 @@ def parse_frequency(text: object) -> Fraction:
     value = parse_quantity(text, "frequency")
     if value <= 0:
         raise QuantityError(f"{text!r} is not a positive frequency")
+    if not LOWEST_FREQUENCY <= value <= HIGHEST_FREQUENCY:
+        raise QuantityError(
+            f"{text!r} is implausible; expected a frequency between 1 mHz and 1 THz"
+        )
     return value
 
 
@@ -148,6 +183,8 @@ def parse_relative(text: object) -> Fraction:
     value = parse_quantity(text, "relative")
     if value < 0:
         raise QuantityError(f'{text!r} is negative; give the size of the band, like "20 ppm"')
+    if value > 1:
+        raise QuantityError(f"{text!r} is more than 100 %; expected a share between 0 and 100 %")
     return value
 
 
@@ -197,12 +234,16 @@ def parse_integer_choices(value: object, *, minimum: int = 1) -> range | tuple[i
         raise QuantityError(f'{value!r} is not a whole number, a list, "a..b" or "pow2 a..b"')
     if min(values) < minimum:
         raise QuantityError(f"{min(values)} is below the smallest allowed value {minimum}")
+    if max(values) > MAX_CHOICE:
+        raise QuantityError(f"{max(values)} goes past 2**62, more than any divider holds")
     if isinstance(values, range):
         return values
     return tuple(sorted(set(values)))
 
 
 def _parse_integer_text(text: str) -> Sequence[int]:
+    if len(text) > MAX_NUMBER_DIGITS:
+        raise QuantityError(f'{_short(text)} is too long for a whole number, "a..b" or "pow2 a..b"')
     pow2 = _POW2.match(text)
     if pow2:
         first = int(pow2.group(1))

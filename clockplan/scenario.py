@@ -20,7 +20,9 @@ from clockplan.errors import ScenarioError
 from clockplan.interfaces import Peripheral, read_peripheral
 from clockplan.interfaces.base import Divisors
 from clockplan.quantities import (
+    MAX_CHOICE,
     QuantityError,
+    format_hz,
     parse_frequency,
     parse_frequency_range,
     parse_integer_choices,
@@ -42,10 +44,16 @@ __all__ = [
 
 MAX_CANDIDATES = 2_000_000
 """The most candidate frequencies one source may offer the search."""
+MAX_ITEMS = 1000
+"""The most entries one section (sources, plls, dividers, muxes, peripherals) may hold."""
+MAX_FILE_BYTES = 4 * 2**20
+"""The largest scenario file read: a real one is a few kilobytes, /dev/zero is endless."""
+MAX_YEARS = 100
+"""The longest service life that aging may be asked to cover."""
 MAX_FRACTION_BITS = 24
 """Widest fractional-N modulus accepted (2**24), to keep the model inside 64-bit integers."""
 
-_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
 _SECTIONS = ("title", "conditions", "sources", "plls", "dividers", "muxes", "peripherals")
 
 
@@ -122,14 +130,33 @@ def default_scenario_path() -> Path:
 
 def load_scenario(path: str | Path) -> Scenario:
     """Read and check a scenario file; raise :class:`ScenarioError` on any mistake."""
-    path = Path(path)
+    return parse_scenario(_read_text(Path(path)), str(path))
+
+
+def _read_text(path: Path) -> str:
+    """The file's text (UTF-8, a byte-order mark allowed), refusing what is no scenario file."""
     try:
-        text = path.read_text(encoding="utf-8")
+        with path.open("rb") as stream:
+            data = stream.read(MAX_FILE_BYTES + 1)
     except FileNotFoundError:
         raise ScenarioError(str(path), "", "no such file") from None
-    except (OSError, UnicodeDecodeError) as error:
+    except IsADirectoryError:
+        raise ScenarioError(str(path), "", "is a directory; expected a scenario file") from None
+    except OSError as error:
+        raise ScenarioError(str(path), "", f"cannot be read ({error.strerror or error})") from None
+    except ValueError as error:  # a path holding a NUL character
         raise ScenarioError(str(path), "", f"cannot be read ({error})") from None
-    return parse_scenario(text, str(path))
+    if len(data) > MAX_FILE_BYTES:
+        raise ScenarioError(
+            str(path), "", f"is larger than {MAX_FILE_BYTES // 2**20} MiB; expected a scenario file"
+        )
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        line = data[: error.start].count(b"\n") + 1
+        raise ScenarioError(
+            str(path), "", f"line {line} is not UTF-8 text (byte {data[error.start]:#04x})"
+        ) from None
 
 
 def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
@@ -138,16 +165,25 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
         document = tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
         raise ScenarioError(file, "", f"is not valid TOML ({error})") from None
+    except ValueError:  # tomllib's own int() refuses numbers of more than 4300 digits
+        raise ScenarioError(
+            file, "", "is not valid TOML (a number is thousands of digits long)"
+        ) from None
+    except RecursionError:
+        raise ScenarioError(
+            file, "", "is not valid TOML (arrays or tables nest too deeply)"
+        ) from None
     top = Fields(document, file=file, path="")
     title = top.take_str("title", Path(file).stem)
     conditions = _read_conditions(top)
     sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions))
     if not sources:
         raise top.error("sources", "is missing; a scenario needs at least one oscillator")
+    _check_candidate_total(sources, file)
     plls = _read_section(top, "plls", _read_pll)
     dividers = _read_section(top, "dividers", _read_divider)
     muxes = _read_section(top, "muxes", _read_mux)
-    peripherals = _read_section(top, "peripherals", read_peripheral)
+    peripherals = _read_section(top, "peripherals", _read_peripheral)
     top.finish()
     scenario = Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals)
     _check_unique_names(scenario)
@@ -162,9 +198,11 @@ def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-d
         top.take(section, dict, {})
         return ()
     table = top.sub(section)
+    if len(table.table) > MAX_ITEMS:
+        raise top.error(section, f"holds {len(table.table)} entries; at most {MAX_ITEMS}")
     items = []
     for name in table.table:
-        if not _NAME.match(name):
+        if not _NAME.fullmatch(name):
             raise table.error(
                 name, "names must start with a letter and hold only letters, digits and _"
             )
@@ -183,8 +221,8 @@ def _read_conditions(top: Fields) -> Conditions:
     default = Conditions()
     temperature = fields.take("temperature", _temperature_range, default.temperature)
     years = fields.take("years", parse_number, default.years)
-    if years < 0:
-        raise fields.error("years", "cannot be negative")
+    if not 0 <= years <= MAX_YEARS:
+        raise fields.error("years", f"{years} is outside 0..{MAX_YEARS}; expected years of service")
     fields.finish()
     return Conditions(temperature, years)
 
@@ -204,7 +242,10 @@ def _temperature_range(value: object) -> tuple[Fraction, Fraction]:
 def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
     kind_name = fields.take_str("kind", choices=tuple(SOURCE_KINDS))
     kind = SOURCE_KINDS[kind_name]
-    candidates = fields.take("choose", _candidates)
+    if isinstance(fields.table.get("choose"), dict):
+        candidates = _candidate_range(fields.sub("choose"))
+    else:
+        candidates = fields.take("choose", _candidates)
     tolerance = fields.take("tolerance", parse_relative, kind.tolerance)
     default_stability = kind.stability
     if kind_name == "tuning-fork":
@@ -222,23 +263,23 @@ def _candidates(value: object) -> tuple[Fraction, ...]:
         if not value:
             raise QuantityError("an empty list offers no frequency; give at least one")
         return tuple(dict.fromkeys(parse_frequency(item) for item in value))
-    if isinstance(value, dict):
-        unknown = set(value) - {"from", "to", "step"}
-        if unknown or len(value) != 3:
-            raise QuantityError(
-                'expected a table { from = "4 MHz", to = "26 MHz", step = "1 kHz" }'
-            )
-        low, high = parse_frequency(value["from"]), parse_frequency(value["to"])
-        step = parse_frequency(value["step"])
-        if low > high:
-            raise QuantityError(f"from {value['from']!r} is above to {value['to']!r}")
-        count = (high - low) // step + 1
-        if count > MAX_CANDIDATES:
-            raise QuantityError(f"the range holds {count} frequencies; at most {MAX_CANDIDATES}")
-        return tuple(low + step * k for k in range(int(count)))
     if isinstance(value, str):
         return (parse_frequency(value),)
     raise QuantityError('expected "catalog", a list of frequencies or { from, to, step }')
+
+
+def _candidate_range(fields: Fields) -> tuple[Fraction, ...]:
+    """Candidates from ``choose = { from = "4 MHz", to = "26 MHz", step = "1 kHz" }``."""
+    low = fields.take("from", parse_frequency)
+    high = fields.take("to", parse_frequency)
+    step = fields.take("step", parse_frequency)
+    fields.finish()
+    if low > high:
+        raise fields.error("to", f"{format_hz(high)} is below from = {format_hz(low)}")
+    count = (high - low) // step + 1
+    if count > MAX_CANDIDATES:
+        raise fields.error("step", f"the range holds {count} frequencies; at most {MAX_CANDIDATES}")
+    return tuple(low + step * k for k in range(int(count)))
 
 
 def _read_pll(fields: Fields, name: str) -> Pll:
@@ -270,12 +311,43 @@ def _read_mux(fields: Fields, name: str) -> Mux:
     return Mux(name, inputs, maximum)
 
 
+def _read_peripheral(fields: Fields, name: str) -> Peripheral:
+    """Read one peripheral by its kind; refuse divisors no 64-bit model can hold."""
+    peripheral = read_peripheral(fields, name)
+    for requirement in peripheral.requirements:
+        sets = [option.divisors for option in requirement.choices]
+        sets += [values for _, values in requirement.stages]
+        largest = max(max(values) for values in sets)
+        if largest > MAX_CHOICE:
+            raise ScenarioError(
+                fields.file,
+                fields.path,
+                f"{requirement.label}: its divisor reaches {largest}, past 2**62; narrow the "
+                "ranges that multiply into it",
+            )
+    return peripheral
+
+
 def _name_list(value: object) -> tuple[str, ...]:
     if not isinstance(value, list) or not all(isinstance(item, str) for item in value):
         raise QuantityError('expected a list of clock names, like ["bus", "usb_clock"]')
     if len(set(value)) != len(value):
         raise QuantityError(f"{value!r} names an input twice")
     return tuple(value)
+
+
+def _check_candidate_total(sources: tuple[Source, ...], file: str) -> None:
+    """Refuse sources that together offer more candidates than one source may."""
+    total = 0
+    for source in sources:
+        total += len(source.candidates)
+        if total > MAX_CANDIDATES:
+            raise ScenarioError(
+                file,
+                f"sources.{source.name}.choose",
+                f"the sources offer {total} candidate frequencies together; at most "
+                f"{MAX_CANDIDATES}",
+            )
 
 
 def _check_unique_names(scenario: Scenario) -> None:

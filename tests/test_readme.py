@@ -16,7 +16,10 @@ def _steady(text: str) -> str:
     return TIMING.sub("… s", "\n".join(line.rstrip() for line in text.splitlines()))
 
 
-@pytest.mark.parametrize(("command", "shown"), blocks(README.read_text(encoding="utf-8")))
+BLOCKS = blocks(README.read_text(encoding="utf-8"))
+
+
+@pytest.mark.parametrize(("command", "shown"), BLOCKS, ids=[command for command, _ in BLOCKS])
 def test_readme_output_is_current(command, shown):
     # If this fails, run: python scripts/refresh_readme.py
     assert _steady(command_output(command)) == _steady(shown)

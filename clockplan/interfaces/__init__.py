@@ -1,7 +1,8 @@
 """Peripheral kinds: one module per kind, each citing the source of its rules.
 
 Each module defines ``KINDS`` (the names a scenario may write) and
-``read(fields, name) -> Peripheral``. :data:`READERS` maps every kind name to its reader.
+``read(fields, name) -> Peripheral`` (a module with several kinds dispatches on ``kind``
+itself). :data:`READERS` maps every kind name to its module's reader.
 """
 
 from __future__ import annotations
@@ -9,13 +10,15 @@ from __future__ import annotations
 from collections.abc import Callable
 
 from clockplan._fields import Fields
-from clockplan.interfaces import clock, tick, uart, usb
+from clockplan.interfaces import audio, buses, can, clock, ethernet, tick, timer, uart, usb
 from clockplan.interfaces.base import Peripheral, Requirement
 
 __all__ = ["READERS", "Peripheral", "Requirement", "read_peripheral"]
 
 READERS: dict[str, Callable[[Fields, str], Peripheral]] = {
-    kind: module.read for module in (clock, tick, uart, usb) for kind in module.KINDS
+    kind: module.read
+    for module in (audio, buses, can, clock, ethernet, tick, timer, uart, usb)
+    for kind in module.KINDS
 }
 
 

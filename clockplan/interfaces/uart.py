@@ -24,12 +24,20 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Peripheral, Requirement
+from clockplan.interfaces.base import Divisors, Peripheral, Requirement
 from clockplan.interfaces.common import read_allowance, read_clock
-from clockplan.quantities import QuantityError, format_relative, parse_integer_choices
+from clockplan.quantities import (
+    HIGHEST_FREQUENCY,
+    MAX_CHOICES,
+    QuantityError,
+    format_relative,
+    parse_integer_choices,
+)
 
 KINDS = ("uart",)
 PARITIES = ("none", "even", "odd", "mark", "space")
+MAX_BAUD_RATES = 64
+"""The most baud rates one UART may list (each is a requirement of the search)."""
 
 
 def link_mismatch_limit(data_bits: int, parity: bool, oversampling: int) -> Fraction:
@@ -50,9 +58,13 @@ def _baud_list(value: object) -> tuple[int, ...]:
     rates = value if isinstance(value, list) else [value]
     if not rates:
         raise QuantityError("an empty list of baud rates; give at least one, like [115200]")
+    if len(rates) > MAX_BAUD_RATES:
+        raise QuantityError(f"lists {len(rates)} baud rates; at most {MAX_BAUD_RATES}")
     for rate in rates:
         if isinstance(rate, bool) or not isinstance(rate, int) or rate <= 0:
             raise QuantityError(f"{rate!r} is not a baud rate; give whole numbers like 115200")
+        if rate > HIGHEST_FREQUENCY:
+            raise QuantityError(f"{rate} is implausible; expected a baud rate up to 10**12")
     return tuple(dict.fromkeys(rates))
 
 
@@ -74,6 +86,7 @@ def read(fields: Fields, name: str) -> Peripheral:
         fields, limit, f"derived for {frame} at {oversampling}x: half the link limit"
     )
     scale = 2**fraction_bits
+    _check_counts(fields, divisor, scale)
     counts = _scaled(divisor, scale)
     requirements = tuple(
         Requirement(
@@ -86,6 +99,7 @@ def read(fields: Fields, name: str) -> Peripheral:
             numerator=scale,
             divisors=_times(counts, oversampling),
             divisor_scale=oversampling * scale,
+            unit="baud",
         )
         for baud in bauds
     )
@@ -96,6 +110,17 @@ def read(fields: Fields, name: str) -> Peripheral:
         ("allowance per end", format_relative(allowance)),
     )
     return Peripheral(name, "uart", clock, requirements, details)
+
+
+def _check_counts(fields: Fields, divisor: Divisors, scale: int) -> None:
+    """Refuse a divisor list that, counted in 1/scale steps, would explode."""
+    compact = isinstance(divisor, range) and divisor.step == 1
+    if not compact and len(divisor) * scale > MAX_CHOICES:
+        raise fields.error(
+            "divisor",
+            f"lists {len(divisor)} values, {len(divisor) * scale} with the fraction bits; "
+            f'at most {MAX_CHOICES} (write a range like "1..4095")',
+        )
 
 
 def _scaled(divisor: range | tuple[int, ...], scale: int) -> range | tuple[int, ...]:

@@ -17,7 +17,8 @@ figures are recomputed afterwards by :mod:`clockplan.evaluate`.
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -279,18 +280,33 @@ class _Builder:
         muxes = {mux.name: mux for mux in scenario.muxes}
         for name in evaluation_order(scenario):
             if name in plls:
-                self.add_pll(plls[name])
+                with self.located(f"plls.{name}"):
+                    self.add_pll(plls[name])
             elif name in dividers:
-                self.add_divider(dividers[name])
+                with self.located(f"dividers.{name}"):
+                    self.add_divider(dividers[name])
             elif name in muxes:
-                self.add_mux(muxes[name])
+                with self.located(f"muxes.{name}"):
+                    self.add_mux(muxes[name])
             else:
-                self.add_source(name)
+                with self.located(f"sources.{name}.choose"):
+                    self.add_source(name)
         for peripheral in scenario.peripherals:
-            for requirement in peripheral.requirements:
-                self.add_rate(requirement, peripheral.clock)
+            with self.located(f"peripherals.{peripheral.name}"):
+                for requirement in peripheral.requirements:
+                    self.add_rate(requirement, peripheral.clock)
         self.add_objective()
         return self.handles
+
+    @contextmanager
+    def located(self, key: str) -> Iterator[None]:
+        """Name the scenario file and ``key`` in any size error raised inside."""
+        try:
+            yield
+        except ModelTooLargeError as error:
+            if str(error).startswith(f"{self.scenario.file}: "):
+                raise
+            raise ModelTooLargeError(f"{self.scenario.file}: {key}: {error}") from None
 
     def add_source(self, name: str) -> None:
         source = self.scenario.source(name)
@@ -549,64 +565,67 @@ class _Builder:
         worst = self.model.new_int_var(0, top_share, "worst_share_steps")
         self.handles.worst = worst
         for rate in self.rates:
-            requirement = rate.requirement
-            precision = self.choose_precision(rate)
-            self.handles.precisions[requirement.setting] = precision
-            power = 10**precision
-            share = self.model.new_int_var(
-                0, self.share_high(rate), f"share_steps[{requirement.setting}]"
-            )
-            label = f"{requirement.peripheral} ({requirement.label})"
-            widest_allowance = max(option.allowance for option, _ in rate.options)
-            held = self.guard(
-                f"{requirement.setting} allowance",
-                f"{label} within {format_relative(widest_allowance)} worst case",
-                requirement=requirement,
-                share=share,
-            )
-            self.model.add(share <= worst)
-            self.handles.shares.append(share)
-            magnitude = self.model.new_int_var(
-                0, rate.deviation_bound, f"abs_deviation[{requirement.setting}]"
-            )
-            self.model.add_abs_equality(magnitude, rate.deviation)
-            denominator = rate.scale * rate.count.expr
-            steps_high = self.steps_high(rate, power)
-            steps = self.model.new_int_var(0, steps_high, f"error_steps[{requirement.setting}]")
-            # steps = ceil(power · |deviation| / (scale · count)): the error rounded up.
-            self.model.add_division_equality(
-                steps, power * magnitude + denominator - 1, denominator
-            )
-            for root, active in self.roots[rate.node].items():
-                budget = self.scenario.source(root).budget
-                for option, chosen in rate.options:
-                    enforce = [lit for lit in (active, chosen) if lit is not True]
-                    room = option.allowance - budget
-                    if room < 0:  # this source can never serve it
-                        self.model.add_bool_or([~lit for lit in enforce + held])
-                    elif (
-                        max(
-                            room.denominator * rate.deviation_bound,
-                            room.numerator * rate.scale * rate.count.high,
-                        )
-                        < LIMIT
-                    ):  # hard: |error| ≤ allowance − budget, exactly
-                        self.model.add(
-                            room.denominator * magnitude <= room.numerator * denominator
-                        ).only_enforce_if(enforce + held)
-                    else:  # too wide for 64 bits: on the error rounded up (stricter by < 1 step)
-                        self.model.add(steps <= math.floor(room * power)).only_enforce_if(
-                            enforce + held
-                        )
-                        self.handles.rounded_limits.add(requirement.setting)
-                    # share ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly
-                    allowance = option.allowance
-                    left = allowance.numerator * budget.denominator * power
-                    right_steps = SHARE_STEPS * allowance.denominator * budget.denominator
-                    right_const = SHARE_STEPS * allowance.denominator * budget.numerator * power
+            with self.located(f"peripherals.{rate.requirement.peripheral}"):
+                self.add_rate_objective(rate, worst)
+
+    def add_rate_objective(self, rate: _Rate, worst: cp_model.IntVar) -> None:
+        """The rate's share of its allowance, its rounded-up error and its hard limit."""
+        requirement = rate.requirement
+        precision = self.choose_precision(rate)
+        self.handles.precisions[requirement.setting] = precision
+        power = 10**precision
+        share = self.model.new_int_var(
+            0, self.share_high(rate), f"share_steps[{requirement.setting}]"
+        )
+        label = f"{requirement.peripheral} ({requirement.label})"
+        widest_allowance = max(option.allowance for option, _ in rate.options)
+        held = self.guard(
+            f"{requirement.setting} allowance",
+            f"{label} within {format_relative(widest_allowance)} worst case",
+            requirement=requirement,
+            share=share,
+        )
+        self.model.add(share <= worst)
+        self.handles.shares.append(share)
+        magnitude = self.model.new_int_var(
+            0, rate.deviation_bound, f"abs_deviation[{requirement.setting}]"
+        )
+        self.model.add_abs_equality(magnitude, rate.deviation)
+        denominator = rate.scale * rate.count.expr
+        steps_high = self.steps_high(rate, power)
+        steps = self.model.new_int_var(0, steps_high, f"error_steps[{requirement.setting}]")
+        # steps = ceil(power · |deviation| / (scale · count)): the error rounded up.
+        self.model.add_division_equality(steps, power * magnitude + denominator - 1, denominator)
+        for root, active in self.roots[rate.node].items():
+            budget = self.scenario.source(root).budget
+            for option, chosen in rate.options:
+                enforce = [lit for lit in (active, chosen) if lit is not True]
+                room = option.allowance - budget
+                if room < 0:  # this source can never serve it
+                    self.model.add_bool_or([~lit for lit in enforce + held])
+                elif (
+                    max(
+                        room.denominator * rate.deviation_bound,
+                        room.numerator * rate.scale * rate.count.high,
+                    )
+                    < LIMIT
+                ):  # hard: |error| ≤ allowance − budget, exactly
                     self.model.add(
-                        left * share >= right_steps * steps + right_const
-                    ).only_enforce_if(enforce)
+                        room.denominator * magnitude <= room.numerator * denominator
+                    ).only_enforce_if(enforce + held)
+                else:  # too wide for 64 bits: on the error rounded up (stricter by < 1 step)
+                    self.model.add(steps <= math.floor(room * power)).only_enforce_if(
+                        enforce + held
+                    )
+                    self.handles.rounded_limits.add(requirement.setting)
+                # share ≥ SHARE_STEPS · (steps/power + budget) / allowance, exactly
+                allowance = option.allowance
+                left = allowance.numerator * budget.denominator * power
+                right_steps = SHARE_STEPS * allowance.denominator * budget.denominator
+                right_const = SHARE_STEPS * allowance.denominator * budget.numerator * power
+                self.model.add(left * share >= right_steps * steps + right_const).only_enforce_if(
+                    enforce
+                )
 
     def steps_high(self, rate: _Rate, power: int) -> int:
         """Largest synthesis error the model must hold, in steps of 1/power."""
@@ -652,10 +671,11 @@ def _common_unit(frequencies: Iterable[Fraction]) -> Fraction:
 
 
 def _check(value: int, where: str) -> None:
+    """Refuse a term past LIMIT; ``where`` names the model's own term."""
     if abs(value) >= LIMIT:
         raise ModelTooLargeError(
-            f"{where}: the model would need integers of {value.bit_length()} bits (at most 62); "
-            "narrow its ranges, fraction bits or the candidate frequencies"
+            f"the model would need integers of {value.bit_length()} bits for {where} (at most "
+            "62); narrow the ranges, the fraction bits or the candidate frequencies"
         )
 
 
