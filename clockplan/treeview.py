@@ -1,0 +1,124 @@
+"""The chosen plan as a rich ``Tree`` for the terminal: each oscillator and what it feeds.
+
+Every clock shows its frequency and setting; every peripheral rate shows what it
+achieves, its error, its worst case against the allowance, the margin left and a
+mark: pass, at risk (worst case above 80 % of the allowance, our own convention,
+see :data:`clockplan.graphs.AT_RISK_SHARE`) or FAIL. A maximum rate (SPI, SD, I2C)
+shows how close the fastest it may run, budget included, comes to its limit. A mux
+hangs under the input it chose; under its other inputs a dim line says it was not chosen.
+"""
+
+from __future__ import annotations
+
+from rich.text import Text
+from rich.tree import Tree
+
+from clockplan.evaluate import RateCheck
+from clockplan.graphs import (
+    AT_RISK,
+    FAIL,
+    limit_text,
+    rate_setting_text,
+    rate_verdict,
+    setting_text,
+)
+from clockplan.plan import Plan
+from clockplan.quantities import format_hz, format_relative
+from clockplan.render import format_rate
+from clockplan.scenario import Scenario
+from clockplan.solve import RankedPlan
+from clockplan.tree import clock_graph
+
+__all__ = ["plan_tree", "verdict_text", "legend"]
+
+_VERDICT_STYLE = {FAIL: ("FAIL", "bold red"), AT_RISK: ("at risk", "bold yellow")}
+
+
+def verdict_text(verdict: str) -> Text:
+    """A verdict as a short coloured word: pass, at risk, FAIL."""
+    word, style = _VERDICT_STYLE.get(verdict, ("pass", "green"))
+    return Text(f"[{word}]", style=style)
+
+
+def legend() -> Text:
+    """One line explaining the marks."""
+    return Text.assemble(
+        ("marks: ", "dim"),
+        verdict_text("pass"),
+        (" worst case inside the allowance  ", "dim"),
+        verdict_text(AT_RISK),
+        (" above 80 % of it (our own convention)  ", "dim"),
+        verdict_text(FAIL),
+        (" outside it", "dim"),
+    )
+
+
+def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
+    """The tree of ``ranked``: oscillators at the top, peripherals and their rates at the leaves."""
+    graph = clock_graph(scenario)
+    plan, evaluation = ranked.plan, ranked.evaluation
+    peripherals = {peripheral.name: peripheral for peripheral in scenario.peripherals}
+    root = Tree(
+        Text.assemble(
+            (scenario.title, "bold"),
+            f"  plan {ranked.rank} ({ranked.status.value})  worst share ",
+            (f"{float(evaluation.worst_share) * 100:.2f} %", "bold"),
+        ),
+        guide_style="dim",
+    )
+
+    def grow(branch: Tree, name: str) -> None:
+        if name in peripherals:
+            checks = [c for c in evaluation.checks if c.requirement.peripheral == name]
+            leaf = branch.add(Text.assemble((name, "bold"), "  ", (peripherals[name].kind, "dim")))
+            for check in checks:
+                leaf.add(_rate_line(check, plan))
+            return
+        what = setting_text(scenario, plan, name)
+        if name in plan.sources:
+            source = scenario.source(name)
+            what = f"{source.kind}, budget {format_relative(source.budget)}"
+        node = branch.add(
+            Text.assemble(
+                (name, "bold"),
+                "  ",
+                (format_hz(evaluation.clocks[name]), "cyan"),
+                "  ",
+                (what, "dim" if name in plan.sources else ""),
+            )
+        )
+        for child in graph.successors(name):
+            if plan.settings.get(f"{child}.input", name) == name:
+                grow(node, child)
+            else:
+                node.add(Text(f"{child} (mux input, not chosen)", style="dim"))
+
+    for source in scenario.sources:
+        grow(root, source.name)
+    return root
+
+
+def _rate_line(check: RateCheck, plan: Plan) -> Text:
+    requirement = check.requirement
+    if requirement.ceiling:
+        figures = (
+            f"\nlimit {limit_text(check)}: with the budget at most "
+            f"{float(check.share) * 100:.2f} % of it "
+            f"({format_relative(check.worst_case, signed=True)})"
+        )
+    else:
+        figures = (
+            f"\nerror {format_relative(check.error, signed=True)}, worst "
+            f"{format_relative(check.worst_case)} of {limit_text(check)} "
+            f"({float(check.share) * 100:.2f} % used), "
+            f"margin {format_relative(check.margin, signed=True)}"
+        )
+    return Text.assemble(
+        verdict_text(rate_verdict(check)),
+        " ",
+        (requirement.label, "bold"),
+        "  got ",
+        (format_rate(check.achieved, requirement.unit), "cyan"),
+        (f"  {rate_setting_text(check, plan)}", "dim"),
+        figures,
+    )
