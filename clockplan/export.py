@@ -6,6 +6,7 @@ Figures in ppm and shares are floats, for reading only.
 
 from __future__ import annotations
 
+from fractions import Fraction
 from typing import Any
 
 from clockplan.evaluate import RateCheck
@@ -55,11 +56,21 @@ def plan_to_data(result: SearchResult, ranked: RankedPlan) -> dict[str, Any]:
         "settings": dict(ranked.plan.settings),
         "clocks": {name: exact_string(value) for name, value in evaluation.clocks.items()},
         "peripherals": peripherals,
+        "cost": _cost(result, ranked),
         "worst_share": float(evaluation.worst_share),
         "worst_peripheral": worst.requirement.peripheral if worst else None,
         "meets_every_allowance": evaluation.feasible,
         "violations": list(evaluation.violations),
     }
+
+
+def _cost(result: SearchResult, ranked: RankedPlan) -> float | None:
+    """Total cost of the sources that feed some peripheral, when the scenario gives costs."""
+    scenario = result.scenario
+    if all(source.cost is None for source in scenario.sources):
+        return None
+    used = {ranked.evaluation.roots[p.clock] for p in scenario.peripherals}
+    return float(sum((scenario.source(name).cost or 0 for name in used), Fraction(0)))
 
 
 def check_to_data(check: RateCheck) -> dict[str, Any]:

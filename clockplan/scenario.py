@@ -16,20 +16,36 @@ from pathlib import Path
 
 from clockplan._fields import Fields
 from clockplan.catalog import catalog_frequencies
+from clockplan.circuits import parse_circuit_quantity
 from clockplan.errors import ScenarioError
 from clockplan.interfaces import Peripheral, read_peripheral
 from clockplan.interfaces.base import Divisors
 from clockplan.quantities import (
+    HIGHEST_FREQUENCY,
+    LOWEST_FREQUENCY,
     MAX_CHOICE,
     QuantityError,
     format_hz,
+    parse_capacitance,
     parse_frequency,
     parse_frequency_range,
     parse_integer_choices,
     parse_number,
+    parse_quantity,
     parse_relative,
 )
-from clockplan.sources import SOURCE_KINDS, Conditions, ParabolicCurve, Source
+from clockplan.sources import (
+    SOURCE_KINDS,
+    TUNING_FORK_COEFFICIENT_PPM,
+    TUNING_FORK_TURNOVER_C,
+    ComponentFrequency,
+    Conditions,
+    ParabolicCurve,
+    Source,
+    lc_oscillator,
+    load_pulling,
+    rc_oscillator,
+)
 
 __all__ = [
     "Pll",
@@ -111,6 +127,9 @@ class Scenario:
     dividers: tuple[Divider, ...]
     muxes: tuple[Mux, ...]
     peripherals: tuple[Peripheral, ...]
+    rank_by: str = "worst-share"
+    """What ranks plans first: "worst-share" (the default) or "cost" (cheapest sources first,
+    among plans that meet every allowance; then the worst share)."""
 
     def source(self, name: str) -> Source:
         """The source called ``name``."""
@@ -175,6 +194,7 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
         ) from None
     top = Fields(document, file=file, path="")
     title = top.take_str("title", Path(file).stem)
+    rank_by = top.take_str("rank_by", "worst-share", choices=("worst-share", "cost"))
     conditions = _read_conditions(top)
     sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions))
     if not sources:
@@ -185,7 +205,9 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     muxes = _read_section(top, "muxes", _read_mux)
     peripherals = _read_section(top, "peripherals", _read_peripheral)
     top.finish()
-    scenario = Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals)
+    scenario = Scenario(
+        title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by
+    )
     _check_unique_names(scenario)
     from clockplan.tree import check_structure
 
@@ -243,17 +265,142 @@ def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
     kind_name = fields.take_str("kind", choices=tuple(SOURCE_KINDS))
     kind = SOURCE_KINDS[kind_name]
     if isinstance(fields.table.get("choose"), dict):
-        candidates = _candidate_range(fields.sub("choose"))
+        candidates: tuple[Fraction, ...] | None = _candidate_range(fields.sub("choose"))
     else:
-        candidates = fields.take("choose", _candidates)
-    tolerance = fields.take("tolerance", parse_relative, kind.tolerance)
+        candidates = fields.take("choose", _candidates, None)
+    default_tolerance = kind.tolerance
+    if kind_name in ("rc", "lc"):
+        built = _read_parts(fields, kind_name)
+        if candidates is not None:
+            raise fields.error(
+                "choose",
+                f"an {kind_name} oscillator's frequency follows from its "
+                "parts; give parts or choose, not both",
+            )
+        candidates, default_tolerance = (built.nominal,), built.tolerance
+    elif candidates is None:
+        raise fields.error("choose", 'is missing; give "catalog", a list or { from, to, step }')
+    tolerance = fields.take("tolerance", parse_relative, default_tolerance)
     default_stability = kind.stability
     if kind_name == "tuning-fork":
+        curve = ParabolicCurve(
+            fields.take("temperature_coefficient", _per_square_degree, TUNING_FORK_COEFFICIENT_PPM),
+            fields.take("turnover", _degrees, TUNING_FORK_TURNOVER_C),
+        )
         low, high = conditions.temperature
-        default_stability = max(abs(offset) for offset in ParabolicCurve().extremes(low, high))
+        default_stability = max(abs(offset) for offset in curve.extremes(low, high))
     stability = fields.take("stability", parse_relative, default_stability)
     aging = fields.take("aging", parse_relative, kind.aging_per_year * conditions.years)
-    return Source(name, kind_name, candidates, tolerance, stability, aging)
+    pulling = Fraction(0)
+    if kind_name in ("crystal", "tuning-fork") and fields.has("circuit"):
+        pulling = _read_circuit(fields.sub("circuit"))
+    cost = fields.take("cost", _cost, None)
+    return Source(name, kind_name, candidates, tolerance, stability, aging, pulling, cost)
+
+
+def _per_square_degree(value: object) -> Fraction:
+    """A tuning fork's coefficient in ppm per °C², written like "-0.034 ppm" (sign kept)."""
+    coefficient = parse_quantity(value, "relative") * 10**6
+    if not -1 <= coefficient <= 0:
+        raise QuantityError(
+            f'{value!r} is not a tuning-fork coefficient such as "-0.034 ppm" '
+            "(per °C², between -1 and 0 ppm)"
+        )
+    return coefficient
+
+
+def _degrees(value: object) -> Fraction:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise QuantityError(f"{value!r} is not a temperature in °C such as 25")
+    degrees = parse_number(value)
+    if not -100 <= degrees <= 200:
+        raise QuantityError(f"{value!r} is not a plausible turnover temperature in °C")
+    return degrees
+
+
+def _cost(value: object) -> Fraction:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise QuantityError(f"{value!r} is not a cost; give a plain number like 0.35")
+    cost = parse_number(value)
+    if cost < 0 or cost > 10**9:
+        raise QuantityError(f"{value!r} is not a cost between 0 and 10**9")
+    return cost
+
+
+def _read_parts(fields: Fields, kind: str) -> ComponentFrequency:
+    """An RC or LC oscillator's frequency and tolerance from ``parts = { … }``."""
+    if not fields.has("parts"):
+        raise fields.error("parts", f"is missing; an {kind} oscillator is computed from its parts")
+    parts = fields.sub("parts")
+    capacitance = parts.take("capacitance", _positive_capacitance)
+    capacitor_tolerance = parts.take("capacitor_tolerance", _part_tolerance, Fraction(5, 100))
+    try:
+        if kind == "rc":
+            r1 = parts.take("r1", _resistance)
+            r2 = parts.take("r2", _resistance)
+            resistor_tolerance = parts.take("resistor_tolerance", _part_tolerance, Fraction(1, 100))
+            built = rc_oscillator(r1, r2, capacitance, resistor_tolerance, capacitor_tolerance)
+        else:
+            inductance = parts.take("inductance", _inductance)
+            inductor_tolerance = parts.take("inductor_tolerance", _part_tolerance, Fraction(5, 100))
+            built = lc_oscillator(inductance, capacitance, inductor_tolerance, capacitor_tolerance)
+    except ValueError as error:
+        raise fields.error("parts", str(error)) from None
+    parts.finish()
+    if not LOWEST_FREQUENCY <= built.nominal <= HIGHEST_FREQUENCY:
+        raise fields.error(
+            "parts",
+            f"the parts give {format_hz(built.nominal)}, not a plausible oscillator frequency",
+        )
+    return built
+
+
+def _read_circuit(fields: Fields) -> Fraction:
+    """The pulling a crystal's built load circuit leaves (``circuit = { … }``)."""
+    load = fields.take("load", _positive_capacitance)
+    capacitors = fields.take("capacitors", _capacitor_pair)
+    stray = fields.take("stray", parse_capacitance, 3 * Fraction(1, 10**12))
+    motional = fields.take("motional", _positive_capacitance)
+    shunt = fields.take("shunt", _positive_capacitance)
+    fields.finish()
+    if stray >= load:
+        raise fields.error("stray", "is at or above the crystal's specified load")
+    return load_pulling(load, capacitors, stray, motional, shunt)
+
+
+def _positive_capacitance(value: object) -> Fraction:
+    capacitance = parse_capacitance(value)
+    if capacitance <= 0 or capacitance > 1:
+        raise QuantityError(f'{value!r} is not a positive capacitance such as "12 pF"')
+    return capacitance
+
+
+def _capacitor_pair(value: object) -> tuple[Fraction, Fraction]:
+    if not isinstance(value, list) or len(value) != 2:
+        raise QuantityError('expected the two load capacitors, like ["18 pF", "18 pF"]')
+    first, second = (_positive_capacitance(item) for item in value)
+    return first, second
+
+
+def _part_tolerance(value: object) -> Fraction:
+    tolerance = parse_relative(value)
+    if tolerance >= Fraction(1, 2):
+        raise QuantityError(f"{value!r} is not a part tolerance below 50 %")
+    return tolerance
+
+
+def _resistance(value: object) -> Fraction:
+    resistance = parse_circuit_quantity(value, "resistance")  # type: ignore[arg-type]
+    if resistance > 10**12:
+        raise QuantityError(f"{value!r} is not a plausible resistance")
+    return resistance
+
+
+def _inductance(value: object) -> Fraction:
+    inductance = parse_circuit_quantity(value, "inductance")  # type: ignore[arg-type]
+    if inductance > 10**3:
+        raise QuantityError(f"{value!r} is not a plausible inductance")
+    return inductance
 
 
 def _candidates(value: object) -> tuple[Fraction, ...]:

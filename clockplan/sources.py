@@ -155,6 +155,8 @@ class Source:
     """Aging over the years of service, as a ratio."""
     pulling: Fraction = Fraction(0)
     """Offset from load-capacitance mismatch, as a ratio (zero when the circuit is not given)."""
+    cost: Fraction | None = None
+    """What the part costs, in any currency the scenario uses throughout (ranking by cost)."""
 
     @property
     def terms(self) -> dict[str, Fraction]:

@@ -119,16 +119,23 @@ class ClockModel:
     """Rates whose hard limit had to use the rounded-up error (64-bit room ran out)."""
     limits: dict[str, Limit] = field(default_factory=dict)
     """Guarded limits by key (only in a relaxable model), in the order they were built."""
+    cost: cp_model.LinearExprT | None = None
+    """Total cost of the sources in use, in steps of ``cost_step`` (when costs are given)."""
+    cost_step: Fraction = Fraction(1)
     preference: cp_model.IntVar | None = None
     """Position of the chosen frequency in the first choosing source's list (last tie-breaker)."""
 
     def tie_breakers(self) -> list[cp_model.LinearExprT]:
         """Expressions to maximise in turn once the worst share is held, most important first.
 
-        Clocks marked "fastest", then rates under a ceiling (both as fast as allowed), then
-        the smallest sum of shares, the earlier candidate frequency, the smaller settings.
+        The lower total cost of the sources in use (when costs are given and the scenario
+        does not rank by cost first), clocks marked "fastest", then rates under a ceiling
+        (both as fast as allowed), the smallest sum of shares, the earlier candidate
+        frequency, the smaller settings.
         """
         stages: list[cp_model.LinearExprT] = []
+        if self.cost is not None and self.scenario.rank_by != "cost":
+            stages.append(-self.cost)
         for group in (self.fastest, self.ceilings):
             if group:
                 stages.append(sum(group))
@@ -186,6 +193,8 @@ class _Builder:
     def __init__(self, scenario: Scenario, relaxable: bool = False) -> None:
         self.scenario = scenario
         self.relaxable = relaxable
+        self.uses: dict[str, list[cp_model.LinearExprT | bool]] = {}
+        """For each source, the literals under which some rate is fed from it."""
         self.model = cp_model.CpModel()
         self.units: dict[str, Fraction] = {}
         """Each clock is units[node] × amount / count."""
@@ -296,7 +305,26 @@ class _Builder:
                 for requirement in peripheral.requirements:
                     self.add_rate(requirement, peripheral.clock)
         self.add_objective()
+        self.add_cost()
         return self.handles
+
+    def add_cost(self) -> None:
+        """Total cost of the sources some rate uses, in the scenario's smallest cost step."""
+        costs = {s.name: s.cost for s in self.scenario.sources if s.cost is not None}
+        if not costs:
+            return
+        step = math.lcm(*(cost.denominator for cost in costs.values()))
+        total: cp_model.LinearExprT = 0
+        for name, cost in costs.items():
+            ways = self.uses.get(name, [])
+            if any(way is True for way in ways):
+                total += int(cost * step)
+            elif ways:
+                used = self.model.new_bool_var(f"uses[{name}]")
+                self.model.add_max_equality(used, ways)
+                total += int(cost * step) * used
+        self.handles.cost = total
+        self.handles.cost_step = Fraction(1, step)
 
     @contextmanager
     def located(self, key: str) -> Iterator[None]:
@@ -463,6 +491,8 @@ class _Builder:
             high = max(max(option.divisors) for option in choices)
             divisor_term = _Term(divisor, low, high)
         count = self.product(count_in, divisor_term, f"count[{requirement.setting}]")
+        for root, active in self.roots[node].items():
+            self.uses.setdefault(root, []).append(active)
         if requirement.ceiling:
             self.add_ceiling(requirement, node, amount, count, top, scale)
             return

@@ -159,17 +159,32 @@ class _Rank:
 def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
     model = handles.model
     model.clear_hints()
-    model.minimize(handles.worst)
     began = time.monotonic()
+    holding: list[cp_model.IntVar] = []
+    cost_proved = True
+    if handles.cost is not None and handles.scenario.rank_by == "cost":
+        model.minimize(handles.cost)
+        cheapest = _run(model, deadline, workers)
+        cost_proved = cheapest.status == cp_model.OPTIMAL
+        if cheapest.status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            cost = int(cheapest.solver.value(handles.cost))
+            holding.append(_hold(model, handles.cost, cost))
+            model.add_assumptions(holding)
+            _hint(handles, cheapest.solver)
+    model.minimize(handles.worst)
     first = _run(model, deadline, workers)
+    model.clear_hints()
+    model.clear_assumptions()
     status = _STATUS.get(first.status, Status.UNKNOWN)
-    limited = first.status == cp_model.UNKNOWN or first.status == cp_model.FEASIBLE
+    limited = first.status in (cp_model.UNKNOWN, cp_model.FEASIBLE) or not cost_proved
+    if status is Status.OPTIMAL and not cost_proved:
+        status = Status.FEASIBLE
     if status in (Status.INFEASIBLE, Status.UNKNOWN):
         return _Rank(Plan({}, {}), status, SHARE_STEPS + 1, limited, False)
     steps = int(first.solver.value(handles.worst))
     plan = handles.read_plan(first.solver)
     proved = True
-    holding = [_hold(model, handles.worst, steps)]
+    holding.append(_hold(model, handles.worst, steps))
     tie_deadline = min(
         deadline, time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
     )
