@@ -12,7 +12,7 @@ from collections.abc import Sequence
 from typing import NoReturn
 
 from clockplan import __version__
-from clockplan.commands import COMMAND_MODULES
+from clockplan.commands import COMMAND_NAMES, command_module
 from clockplan.errors import ClockplanError
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
@@ -36,8 +36,8 @@ def one_line(message: str) -> str:
     return "\\n".join(message.splitlines())
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """The whole argument parser, one subparser per command module."""
+def build_parser(only: str | None = None) -> argparse.ArgumentParser:
+    """The argument parser: every command, or with ``only`` just that one (faster start)."""
     parser = OneLineParser(
         prog="clockplan",
         description="Choose reference oscillators and clock-tree settings so every peripheral "
@@ -46,16 +46,27 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"clockplan {__version__}")
     parser.add_argument("--debug", action="store_true", help="show a traceback on errors")
     subparsers = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
-    for module in COMMAND_MODULES:
-        module.register(subparsers)
+    for name in COMMAND_NAMES if only is None else (only,):
+        command_module(name).register(subparsers)
     return parser
+
+
+def _command_named(argv: Sequence[str]) -> str | None:
+    """The subcommand ``argv`` runs, when it names one (the first word not an option)."""
+    word = next((item for item in argv if not item.startswith("-")), None)
+    return word if word in COMMAND_NAMES else None
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; return its exit status (0 ok, 1 no plan fits, 2 bad input)."""
-    parser = build_parser()
+    words = list(sys.argv[1:] if argv is None else argv)
+    command = _command_named(words)
+    if command is None and words == ["--version"]:  # answer without importing every command
+        print(f"clockplan {__version__}")
+        return 0
+    parser = build_parser(command)
     try:
-        args = parser.parse_args(argv)
+        args = parser.parse_args(words)
     except SystemExit as stop:  # --help, --version, or a usage error already reported
         return stop.code if isinstance(stop.code, int) else EXIT_BAD_INPUT
     try:

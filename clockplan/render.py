@@ -33,6 +33,8 @@ _STATUS_WORDS = {
 def status_line(result: SearchResult) -> Text:
     """One line saying what the search proved and how long it took."""
     words = _STATUS_WORDS[result.status]
+    if result.interrupted:
+        words = "stopped by Ctrl-C: the best plans found so far, not proved"
     style = {"optimal": "bold green", "feasible": "yellow"}.get(result.status.value, "bold red")
     line = Text.assemble(("Status: ", "bold"), (words, style), f"   {result.elapsed:.2f} s")
     if result.time_limited and result.status is Status.OPTIMAL:

@@ -24,7 +24,7 @@ from clockplan.solve import SearchResult, Status, search
 from clockplan.solve.explain import explain_infeasibility
 from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
 
-EXIT_OK, EXIT_NO_PLAN = 0, 1
+EXIT_OK, EXIT_NO_PLAN, EXIT_INTERRUPTED = 0, 1, 130
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
@@ -106,11 +106,13 @@ def run(args: argparse.Namespace) -> int:
             console.print(ranking_table(result))
             console.print(rates_table(result.plans[0]))
             console.print(budget_table(result, result.plans[0]))
-        elif result.status is Status.INFEASIBLE:
+        elif result.status is Status.INFEASIBLE and not result.interrupted:
             explanation = explain_infeasibility(result.scenario, time_limit=args.time_limit)
             console.print(explanation_text(explanation))
         else:
             console.print("The time limit stopped the search before any plan.", style="bold red")
+    if result.interrupted:
+        return EXIT_INTERRUPTED
     best_fits = bool(result.plans) and result.plans[0].evaluation.feasible
     return (
         EXIT_OK

@@ -17,6 +17,7 @@ import time
 from collections.abc import Callable
 from dataclasses import dataclass
 from enum import StrEnum
+from threading import Event, Thread
 
 from ortools.sat.python import cp_model
 
@@ -78,6 +79,8 @@ class SearchResult:
     """Whether the time limit cut any part of the search short."""
     rounded_limits: frozenset[str] = frozenset()
     """Rates whose hard limit was checked on the rounded-up error (64-bit room ran out)."""
+    interrupted: bool = False
+    """Whether Ctrl-C stopped the search; the plans are the best found until then."""
 
     @property
     def precision(self) -> int:
@@ -108,11 +111,13 @@ def search(
     plans: list[RankedPlan] = []
     status = Status.UNKNOWN
     time_limited = False
+    interrupted = False
     for rank in range(1, top + 1):
         if progress:
             progress(rank - 1, top)
         found = _solve_rank(handles, deadline, workers)
         time_limited |= found.time_limited
+        interrupted |= found.interrupted
         if rank == 1:
             status = found.status
         if found.status in (Status.INFEASIBLE, Status.UNKNOWN):
@@ -128,11 +133,13 @@ def search(
                 found.tie_breaks_proved,
             )
         )
+        if found.interrupted:
+            break
         handles.forbid_sources(found.plan.sources)
         if time.monotonic() >= deadline:
             time_limited = True
             break
-    if not plans and status is Status.UNKNOWN and not time_limited:
+    if not plans and status is Status.UNKNOWN and not (time_limited or interrupted):
         status = Status.INFEASIBLE
     if progress:
         progress(top, top)
@@ -144,6 +151,7 @@ def search(
         time.monotonic() - started,
         time_limited,
         frozenset(handles.rounded_limits),
+        interrupted,
     )
 
 
@@ -154,6 +162,7 @@ class _Rank:
     worst_steps: int
     time_limited: bool
     tie_breaks_proved: bool
+    interrupted: bool = False
 
 
 def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
@@ -162,6 +171,7 @@ def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
     began = time.monotonic()
     holding: list[cp_model.IntVar] = []
     cost_proved = True
+    cheapest = _Run(cp_model.CpSolver(), cp_model.OPTIMAL)
     if handles.cost is not None and handles.scenario.rank_by == "cost":
         model.minimize(handles.cost)
         cheapest = _run(model, deadline, workers)
@@ -179,11 +189,14 @@ def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
     limited = first.status in (cp_model.UNKNOWN, cp_model.FEASIBLE) or not cost_proved
     if status is Status.OPTIMAL and not cost_proved:
         status = Status.FEASIBLE
+    interrupted = first.interrupted or cheapest.interrupted
     if status in (Status.INFEASIBLE, Status.UNKNOWN):
-        return _Rank(Plan({}, {}), status, SHARE_STEPS + 1, limited, False)
+        return _Rank(Plan({}, {}), status, SHARE_STEPS + 1, limited, False, interrupted)
     steps = int(first.solver.value(handles.worst))
     plan = handles.read_plan(first.solver)
-    proved = True
+    proved = not interrupted
+    if interrupted:
+        return _Rank(plan, status, steps, True, False, True)
     holding.append(_hold(model, handles.worst, steps))
     tie_deadline = min(
         deadline, time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
@@ -196,32 +209,56 @@ def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
         model.maximize(expression)
         run = _run(model, tie_deadline, workers)
         model.clear_hints()
+        interrupted = run.interrupted
         if run.status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
             proved = False
             break
         solver = run.solver
         plan = handles.read_plan(solver)
-        if run.status != cp_model.OPTIMAL:
+        if run.status != cp_model.OPTIMAL or interrupted:
             proved = False
             break
         holding.append(_hold(model, expression, int(solver.value(expression)), at_least=True))
     model.clear_assumptions()
-    return _Rank(plan, status, steps, limited, proved)
+    return _Rank(plan, status, steps, limited, proved, interrupted)
 
 
 @dataclass
 class _Run:
     solver: cp_model.CpSolver
     status: int
+    interrupted: bool = False
 
 
 def _run(model: cp_model.CpModel, deadline: float, workers: int) -> _Run:
+    """Solve in a thread so that Ctrl-C in the main thread can stop the search gracefully."""
     solver = cp_model.CpSolver()
     solver.parameters.max_time_in_seconds = max(0.01, deadline - time.monotonic())
     solver.parameters.num_workers = workers
     solver.parameters.random_seed = 1
-    status = solver.solve(model)
-    return _Run(solver, status)
+    solver.parameters.catch_sigint_signal = False
+    outcome: list[int] = []
+    done = Event()
+
+    def solve() -> None:
+        try:
+            outcome.append(solver.solve(model))
+        finally:
+            done.set()
+
+    Thread(target=solve, daemon=True).start()
+    interrupted = False
+    while True:
+        try:
+            # Event.wait, not Thread.join: an interrupted join can report a live thread dead.
+            if done.wait(0.05):
+                break
+        except KeyboardInterrupt:
+            interrupted = True
+            solver.stop_search()
+    if not outcome:
+        raise RuntimeError("CP-SAT stopped without a status (see the error above)")
+    return _Run(solver, outcome[0], interrupted)
 
 
 def _hold(

@@ -1,0 +1,94 @@
+"""Ctrl-C during a search prints the best plan found so far and exits cleanly."""
+
+import signal
+import subprocess
+import sys
+import time
+from threading import Event
+
+import pytest
+
+from clockplan.scenario import load_scenario
+from clockplan.solve import search
+
+HARD = """
+[sources.main]
+kind = "crystal"
+choose = { from = "8 MHz", to = "26 MHz", step = "100 Hz" }
+[plls.system]
+from = "main"
+reference_divider = "1..16"
+pfd = "1 MHz .. 4 MHz"
+multiplier = "20..200"
+fraction_bits = 16
+vco = "192 MHz .. 480 MHz"
+[dividers.core]
+from = "system"
+divide = "1..64"
+goal = "fastest"
+max = "200 MHz"
+[peripherals.a]
+kind = "clock"
+from = "core"
+rate = "12.288 MHz"
+divide = "1..8"
+allowance = "100 ppm"
+[peripherals.b]
+kind = "uart"
+from = "core"
+baud = [115200, 921600, 31250]
+fraction_bits = 4
+"""
+
+
+@pytest.fixture
+def hard_board(tmp_path):
+    path = tmp_path / "hard.toml"
+    path.write_text(HARD)
+    return path
+
+
+def test_interrupt_keeps_the_best_plan_so_far(hard_board, monkeypatch):
+    # Ctrl-C reaches the main thread while it waits for CP-SAT: simulate exactly that, once,
+    # during the third solve (rank 1 is found by then); a real signal would hit pytest too.
+    search_module = sys.modules["clockplan.solve.search"]
+
+    class CtrlCOnce(Event):
+        made = 0
+        pressed = False
+
+        def __init__(self):
+            super().__init__()
+            CtrlCOnce.made += 1
+            self.third = CtrlCOnce.made == 3
+
+        def wait(self, timeout=None):
+            if self.third and not CtrlCOnce.pressed:
+                CtrlCOnce.pressed = True
+                raise KeyboardInterrupt
+            return super().wait(timeout)
+
+    monkeypatch.setattr(search_module, "Event", CtrlCOnce)
+    started = time.monotonic()
+    result = search(load_scenario(hard_board), top=50, time_limit=60)
+    assert CtrlCOnce.pressed
+    assert result.interrupted
+    assert time.monotonic() - started < 20
+    assert len(result.plans) >= 1, "the plans found before Ctrl-C are kept"
+    assert result.plans[0].evaluation.feasible
+
+
+def test_ctrl_c_on_the_command_line_prints_plans_and_exits_130(hard_board):
+    process = subprocess.Popen(
+        [sys.executable, "-m", "clockplan", "plan", str(hard_board), "--top", "50"],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+    )
+    time.sleep(4.0)
+    process.send_signal(signal.SIGINT)
+    out, err = process.communicate(timeout=30)
+    assert process.returncode == 130
+    assert "Traceback" not in err
+    assert "stopped by Ctrl-C" in out
+    assert "ranked clock plans" in out
