@@ -6,8 +6,8 @@ worst share of an allowance is minimised (its status is the plan's status); then
 holding it, the tie-breakers in order: clocks marked "fastest" as fast as allowed,
 rates under a ceiling as fast as allowed, the smallest sum of every rate's share,
 the earlier candidate frequency (catalog or list order), the smallest sum of
-settings. The second stage may take TIE_BREAK_SECONDS or three times the first,
-whichever is more; when it is proved too (``tie_breaks_proved``), the plan does not
+settings. The tie-breaking stages may take TIE_BREAK_SECONDS or as long as the first
+stage, whichever is more; when it is proved too (``tie_breaks_proved``), the plan does not
 depend on how many workers CP-SAT runs, save for exact ties on all of these.
 """
 
@@ -30,8 +30,9 @@ __all__ = ["Status", "RankedPlan", "SearchResult", "search", "DEFAULT_TIME_LIMIT
 
 DEFAULT_TIME_LIMIT = 60.0
 """Seconds the whole search may take unless the caller says otherwise."""
-TIE_BREAK_SECONDS = 2.0
-"""The tie-breaking stage may take this long, or three times the first stage, whichever is more."""
+TIE_BREAK_SECONDS = 1.0
+"""The tie-breaking stages may take this long together, or as long as the first stage took,
+whichever is more."""
 DEFAULT_WORKERS = 8
 """CP-SAT search workers (threads); its portfolio pays even on two cores."""
 
@@ -199,7 +200,7 @@ def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
         return _Rank(plan, status, steps, True, False, True)
     holding.append(_hold(model, handles.worst, steps))
     tie_deadline = min(
-        deadline, time.monotonic() + max(TIE_BREAK_SECONDS, 3 * (time.monotonic() - began))
+        deadline, time.monotonic() + max(TIE_BREAK_SECONDS, time.monotonic() - began)
     )
     solver = first.solver
     for expression in handles.tie_breakers():
@@ -272,5 +273,6 @@ def _hold(
 
 
 def _hint(handles: ClockModel, solver: cp_model.CpSolver) -> None:
+    """Hint the settings and oscillator choices of the last solution to the next stage."""
     for var in list(handles.settings.values()) + list(handles.source_values.values()):
         handles.model.add_hint(var, solver.value(var))
