@@ -7,6 +7,7 @@ errors that clockplan raises on purpose become one line on standard error and ex
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from collections.abc import Sequence
 from typing import NoReturn
@@ -79,6 +80,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # the reader went away (`clockplan plan --json | head`)
+        sys.stdout = open(os.devnull, "w")  # so the flush at exit raises nothing more
+        return 0
 
 
 def main_entry() -> None:

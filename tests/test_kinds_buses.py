@@ -15,7 +15,7 @@ from tests.oracle import best_key
 @pytest.mark.parametrize(
     ("mode", "hertz"),
     [
-        # Source: NXP I2C-bus specification and user manual UM10204 (facts sheet §10.1):
+        # Source: I2C-bus specification and user manual UM10204 (facts sheet §10.1):
         # standard ≤ 100 kbit/s, fast ≤ 400 kbit/s, fast-mode plus ≤ 1 Mbit/s, high speed
         # ≤ 3.4 Mbit/s, ultra fast ≤ 5 Mbit/s.
         ("standard", 100_000),

@@ -14,7 +14,7 @@ Sources:
   identification also needs the identification clock while the card starts, so it adds
   that rate too (``identification = false`` leaves it out).
 * I2C: standard mode ≤ 100 kHz, fast mode ≤ 400 kHz, fast-mode plus ≤ 1 MHz, high-speed
-  mode ≤ 3.4 MHz, ultra-fast mode ≤ 5 MHz (NXP's I2C-bus specification and user manual,
+  mode ≤ 3.4 MHz, ultra-fast mode ≤ 5 MHz (the I2C-bus specification and user manual,
   UM10204; seen restated in several sources). These are maxima: 97 kHz serves a
   standard-mode bus, 101 kHz does not.
 * Default prescaler ranges (SPI "pow2 1..8", quad SPI "1..256", SD "1..1024", I2C
