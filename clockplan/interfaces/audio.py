@@ -24,7 +24,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Peripheral, Requirement
+from clockplan.interfaces.base import Peripheral, Requirement, times
 from clockplan.interfaces.common import read_allowance, read_clock
 from clockplan.quantities import (
     QuantityError,
@@ -68,12 +68,6 @@ def _sample_rates(value: object) -> tuple[Fraction, ...]:
     return tuple(dict.fromkeys(parse_frequency(rate) for rate in rates))
 
 
-def _times(values: Divisors, factor: int) -> Divisors:
-    if isinstance(values, range):
-        return range(values.start * factor, (values.stop - 1) * factor + 1, values.step * factor)
-    return tuple(value * factor for value in values)
-
-
 def _setting_name(rate: Fraction) -> str:
     if rate.denominator == 1:
         return str(rate.numerator)
@@ -108,7 +102,7 @@ def read(fields: Fields, name: str) -> Peripheral:
             target=rate,
             allowance=allowance,
             allowance_basis=basis,
-            divisors=_times(divide, ratio),
+            divisors=times(divide, ratio),
             divisor_scale=ratio,
         )
         for rate in rates

@@ -5,10 +5,17 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-__all__ = ["Requirement", "Peripheral", "Divisors", "Option"]
+__all__ = ["Requirement", "Peripheral", "Divisors", "Option", "times"]
 
 Divisors = range | tuple[int, ...]
 """Allowed values of an internal divisor: a ``range`` (maybe stepped) or a sorted tuple."""
+
+
+def times(values: Divisors, factor: int) -> Divisors:
+    """Every allowed value multiplied by ``factor``, keeping a range a range."""
+    if isinstance(values, range):
+        return range(values.start * factor, (values.stop - 1) * factor + 1, values.step * factor)
+    return tuple(value * factor for value in values)
 
 
 @dataclass(frozen=True)

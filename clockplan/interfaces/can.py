@@ -45,7 +45,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Option, Peripheral, Requirement
+from clockplan.interfaces.base import Divisors, Option, Peripheral, Requirement, times
 from clockplan.interfaces.common import read_clock
 from clockplan.quantities import (
     QuantityError,
@@ -226,7 +226,7 @@ def timing_options(
             continue
         options.append(
             Option(
-                divisors=_times(prescaler, count),
+                divisors=times(prescaler, count),
                 allowance=allowance if allowance is not None else tolerance(timing),
                 label=timing.label(),
                 factor=count,
@@ -234,12 +234,6 @@ def timing_options(
             )
         )
     return tuple(options)
-
-
-def _times(values: Divisors, factor: int) -> Divisors:
-    if isinstance(values, range):
-        return range(values.start * factor, (values.stop - 1) * factor + 1, values.step * factor)
-    return tuple(value * factor for value in values)
 
 
 def _bit_rate(value: object) -> Fraction:

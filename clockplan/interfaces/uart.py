@@ -24,7 +24,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Peripheral, Requirement
+from clockplan.interfaces.base import Divisors, Peripheral, Requirement, times
 from clockplan.interfaces.common import read_allowance, read_clock
 from clockplan.quantities import (
     HIGHEST_FREQUENCY,
@@ -97,7 +97,7 @@ def read(fields: Fields, name: str) -> Peripheral:
             allowance=allowance,
             allowance_basis=basis,
             numerator=scale,
-            divisors=_times(counts, oversampling),
+            divisors=times(counts, oversampling),
             divisor_scale=oversampling * scale,
             unit="baud",
         )
@@ -130,9 +130,3 @@ def _scaled(divisor: range | tuple[int, ...], scale: int) -> range | tuple[int, 
     if isinstance(divisor, range) and divisor.step == 1:
         return range(divisor.start * scale, (divisor.stop - 1) * scale + 1)
     return tuple(value * scale + part for value in divisor for part in range(scale))
-
-
-def _times(values: range | tuple[int, ...], factor: int) -> range | tuple[int, ...]:
-    if isinstance(values, range):
-        return range(values.start * factor, (values.stop - 1) * factor + 1, values.step * factor)
-    return tuple(value * factor for value in values)
