@@ -6,7 +6,9 @@ import textwrap
 
 import pytest
 
+from clockplan.evaluate import Evaluation, evaluate_plan
 from clockplan.scenario import Scenario, default_scenario_path, load_scenario, parse_scenario
+from clockplan.solve import SearchResult
 
 
 def scenario_from(text: str, name: str = "inline.toml") -> Scenario:
@@ -17,3 +19,12 @@ def scenario_from(text: str, name: str = "inline.toml") -> Scenario:
 @pytest.fixture(scope="session")
 def default_scenario() -> Scenario:
     return load_scenario(default_scenario_path())
+
+
+def assert_plans_recheck(scenario: Scenario, result: SearchResult) -> list[Evaluation]:
+    """Re-evaluate every ranked plan independently: no broken limit, every rate inside."""
+    evaluations = [evaluate_plan(scenario, ranked.plan) for ranked in result.plans]
+    for evaluation in evaluations:
+        assert evaluation.violations == ()
+        assert evaluation.feasible
+    return evaluations

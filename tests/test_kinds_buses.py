@@ -5,10 +5,9 @@ from fractions import Fraction
 import pytest
 
 from clockplan.errors import ScenarioError
-from clockplan.evaluate import evaluate_plan
 from clockplan.interfaces.buses import I2C_MODES, SD_MODES
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.conftest import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 
@@ -72,10 +71,7 @@ def test_every_bus_stays_under_its_maximum_and_matches_the_oracle():
     result = search(scenario, top=3)
     assert result.status is Status.OPTIMAL
     assert best_key(scenario, result.precision)[0] == result.plans[0].worst_steps
-    for ranked in result.plans:
-        evaluation = evaluate_plan(scenario, ranked.plan)
-        assert evaluation.violations == ()
-        assert evaluation.feasible
+    for evaluation in assert_plans_recheck(scenario, result):
         for check in evaluation.checks:
             assert check.requirement.ceiling
             budget = check.source_budget

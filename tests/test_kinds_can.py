@@ -20,7 +20,7 @@ from clockplan.interfaces.can import (
     timing_options,
 )
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.conftest import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 # Source: CAN Specification 2.0 Part B §9 "Oscillator Tolerance" and ISO 11898-1, conditions
@@ -169,10 +169,7 @@ def test_classical_plan_matches_the_oracle():
     result = search(scenario, top=3)
     assert result.status is Status.OPTIMAL
     assert best_key(scenario, result.precision)[0] == result.plans[0].worst_steps
-    for ranked in result.plans:
-        evaluation = evaluate_plan(scenario, ranked.plan)
-        assert evaluation.violations == ()
-        assert evaluation.feasible
+    assert_plans_recheck(scenario, result)
 
 
 FD = """
