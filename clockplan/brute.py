@@ -72,6 +72,8 @@ __all__ = [
 
 SHARE_STEPS = 10_000
 """The objective counts the worst share of an allowance in steps of 1/10 000 (README)."""
+ERROR_STEPS = 10**9
+"""Errors count in steps of 10**-9 (README)."""
 BLOCK_ROWS = 1 << 16
 """Most combinations held in one block of arrays."""
 STAGE_PRODUCTS = 1 << 16
@@ -463,11 +465,11 @@ class _Rate:
         best = np.full(kernel.shape, np.inf)
         for divisors, allowance in self.ways:
             for divisor in divisors.bracket(ideal):
-                error = np.abs(ideal / divisor - 1) - FLOAT_SLACK
-                fits = error + budget <= allowance * (1 + FLOAT_SLACK)
-                steps = np.ceil(np.maximum(error, 0) * self.power * (1 - FLOAT_SLACK))
-                share = SHARE_STEPS * (steps / self.power + budget) / allowance
-                key = np.ceil(share * (1 - FLOAT_SLACK))
+                signed = ideal / divisor - 1
+                error = np.maximum(np.abs(signed) - FLOAT_SLACK, 0)
+                worst = error * (1 + np.sign(signed) * budget) + budget
+                fits = worst <= allowance * (1 + FLOAT_SLACK)
+                key = np.ceil(SHARE_STEPS * worst / allowance * (1 - FLOAT_SLACK))
                 best = np.minimum(best, np.where(fits, key, np.inf))
         return best
 
@@ -808,15 +810,25 @@ def _blocks(first: np.ndarray, counts: np.ndarray) -> Iterator[tuple[np.ndarray,
 # -- exact divisors -------------------------------------------------------------------------
 
 
-def exact_key(evaluation: Evaluation, precisions: Mapping[str, int]) -> int:
-    """The plan's key: the largest rate key, ceil(SHARE_STEPS·(rounded |e| + budget)/allowance)."""
+def rate_key(error: Fraction, budget: Fraction, allowance: Fraction) -> int:
+    """One rate's key, as the README defines the worst share: with E = ⌊10⁹·|e|⌋ + 1 and
+    X = ⌈E·(10⁹ ± ⌈or⌊10⁹·b⌋)/10⁹⌉ by the error's sign, ⌈10 000·(X + ⌈10⁹·b⌉)/(10⁹·a)⌉."""
+    steps = math.floor(abs(error) * ERROR_STEPS) + 1
+    raised = math.ceil(budget * ERROR_STEPS)
+    if error >= 0:
+        worst = steps + math.ceil(Fraction(steps * raised, ERROR_STEPS))
+    else:
+        worst = steps - math.floor(Fraction(steps * math.floor(budget * ERROR_STEPS), ERROR_STEPS))
+    return math.ceil(SHARE_STEPS * Fraction(worst + raised, ERROR_STEPS) / allowance)
+
+
+def exact_key(evaluation: Evaluation, precisions: Mapping[str, int] | None = None) -> int:
+    """The plan's key: the largest rate key (see :func:`rate_key`)."""
     key = 0
     for check in evaluation.checks:
         if check.requirement.ceiling:
             continue
-        power = 10 ** precisions[check.requirement.setting]
-        rounded = Fraction(math.ceil(abs(check.error) * power), power)
-        key = max(key, math.ceil(SHARE_STEPS * (rounded + check.source_budget) / check.allowance))
+        key = max(key, rate_key(check.error, check.source_budget, check.allowance))
     return key
 
 
@@ -840,12 +852,11 @@ def _exact_divisor(
                 )
                 rank: tuple[Fraction, ...] = (Fraction(divisor),)
             else:
-                error = abs(rate / requirement.target - 1)
-                fits = error + budget <= option.allowance
-                power = 10 ** precisions[requirement.setting]
-                rounded = Fraction(math.ceil(error * power), power)
-                key = math.ceil(SHARE_STEPS * (rounded + budget) / option.allowance)
-                rank = (Fraction(key), (error + budget) / option.allowance)
+                error = rate / requirement.target - 1
+                worst = abs(error) + budget * (1 + error)
+                fits = worst <= option.allowance
+                key = rate_key(error, budget, option.allowance)
+                rank = (Fraction(key), worst / option.allowance)
             if not fits or (best is not None and rank >= best[0]):
                 continue
             settings: dict[str, SettingValue] = {}

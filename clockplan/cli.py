@@ -9,16 +9,18 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import time
 from collections.abc import Sequence
 from typing import NoReturn
 
 from clockplan import __version__
 from clockplan.commands import COMMAND_NAMES, command_module
-from clockplan.errors import ClockplanError
+from clockplan.errors import ClockplanError, InternalError
+from clockplan.exits import Exit
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
-EXIT_BAD_INPUT = 2
+EXIT_BAD_INPUT = Exit.BAD_INPUT
 
 
 class OneLineParser(argparse.ArgumentParser):
@@ -60,6 +62,7 @@ def _command_named(argv: Sequence[str]) -> str | None:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run one command; return its exit status (0 ok, 1 no plan fits, 2 bad input)."""
+    started = time.monotonic()
     words = list(sys.argv[1:] if argv is None else argv)
     command = _command_named(words)
     if command is None and words == ["--version"]:  # answer without importing every command
@@ -70,8 +73,16 @@ def main(argv: Sequence[str] | None = None) -> int:
         args = parser.parse_args(words)
     except SystemExit as stop:  # --help, --version, or a usage error already reported
         return stop.code if isinstance(stop.code, int) else EXIT_BAD_INPUT
+    args.started = started
     try:
         return int(args.func(args))
+    except InternalError as error:
+        if args.debug:
+            raise
+        print(
+            f"clockplan: internal error (please report it): {one_line(str(error))}", file=sys.stderr
+        )
+        return Exit.INTERNAL
     except ClockplanError as error:
         if args.debug:
             raise
@@ -79,7 +90,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)
-        return 130
+        return Exit.INTERRUPTED
     except BrokenPipeError:  # the reader went away (`clockplan plan --json | head`)
         sys.stdout = open(os.devnull, "w")  # so the flush at exit raises nothing more
         return 0

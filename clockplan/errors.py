@@ -2,7 +2,13 @@
 
 from __future__ import annotations
 
-__all__ = ["ClockplanError", "ScenarioError", "InputError", "ModelTooLargeError"]
+__all__ = [
+    "ClockplanError",
+    "ScenarioError",
+    "InputError",
+    "ModelTooLargeError",
+    "InternalError",
+]
 
 
 class ClockplanError(Exception):
@@ -34,3 +40,8 @@ class InputError(ValueError, ClockplanError):
 
 class ModelTooLargeError(ClockplanError):
     """A scenario would overflow 64-bit integers or explode the enumeration."""
+
+
+class InternalError(RuntimeError, ClockplanError):
+    """A bug in clockplan (the solver refused the model, a proved stage left no plan): never
+    the user's fault, and never reported as "no plan fits"."""

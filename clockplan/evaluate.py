@@ -50,15 +50,17 @@ class RateCheck:
 
     @property
     def worst_case(self) -> Fraction:
-        """|synthesis error| + the source's budget; for a ceiling, the fastest rate it reaches."""
+        """The largest deviation the source's budget b can push the rate to: (1 + e)(1 ± b) − 1
+        at its largest, |e| + b·(1 + e); for a ceiling, the fastest rate it reaches."""
         if self.requirement.ceiling:
             return self.achieved * (1 + self.source_budget) / self.requirement.target - 1
-        return abs(self.error) + self.source_budget
+        return abs(self.error) + self.source_budget * (1 + self.error)
 
     @property
     def worst_case_rss(self) -> float:
-        """|synthesis error| + the source's RSS budget (a statistical figure)."""
-        return abs(float(self.error)) + self.source_budget_rss
+        """The same with the source's RSS budget in place of its sum (a statistical figure)."""
+        error = float(self.error)
+        return abs(error) + self.source_budget_rss * (1 + error)
 
     @property
     def share(self) -> Fraction:

@@ -11,9 +11,9 @@ from typing import Any
 
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import exact_string
-from clockplan.solve import RankedPlan, SearchResult
+from clockplan.result import Explanation, RankedPlan, SearchResult
 
-__all__ = ["result_to_data", "plan_to_data", "check_to_data"]
+__all__ = ["result_to_data", "plan_to_data", "check_to_data", "explanation_to_data"]
 
 
 def result_to_data(result: SearchResult) -> dict[str, Any]:
@@ -22,11 +22,32 @@ def result_to_data(result: SearchResult) -> dict[str, Any]:
         "scenario": result.scenario.title,
         "file": result.scenario.file,
         "status": result.status.value,
+        "proved": result.proved,
         "time_limited": result.time_limited,
+        "ranks_exhausted": result.exhausted,
         "elapsed_s": round(result.elapsed, 3),
-        "error_precision_digits": result.precisions,
+        "ranking_order": list(result.order),
+        "error_precision_digits": dict(result.precisions or {}),
+        "bounded_errors": sorted(result.bounded_errors),
         "rounded_limits": sorted(result.rounded_limits),
         "plans": [plan_to_data(result, ranked) for ranked in result.plans],
+        "explanation": explanation_to_data(result.explanation),
+    }
+
+
+def explanation_to_data(explanation: Explanation | None) -> dict[str, Any] | None:
+    """Why no plan fits, as data (None when there is nothing to explain)."""
+    if explanation is None:
+        return None
+    return {
+        "conflict": list(explanation.conflict),
+        "conflict_is_minimal": explanation.minimal,
+        "time_limited": explanation.time_limited,
+        "beyond_sources": list(explanation.beyond_sources),
+        "relaxations": [
+            {"limit": r.limit, "advice": r.advice, "proved": r.proved}
+            for r in explanation.relaxations
+        ],
     }
 
 
@@ -41,6 +62,8 @@ def plan_to_data(result: SearchResult, ranked: RankedPlan) -> dict[str, Any]:
     return {
         "rank": ranked.rank,
         "status": ranked.status.value,
+        "stages": [{"name": stage.name, "proved": stage.proved} for stage in ranked.stages],
+        "choice": {name: exact_string(hz) for name, hz in ranked.choice.items()},
         "sources": {
             name: {
                 "hz": exact_string(frequency),

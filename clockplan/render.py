@@ -9,8 +9,7 @@ from rich.text import Text
 
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
-from clockplan.solve import RankedPlan, SearchResult, Status
-from clockplan.solve.explain import Explanation
+from clockplan.result import STATUS_WORDS, Explanation, RankedPlan, SearchResult
 
 __all__ = [
     "ranking_table",
@@ -20,32 +19,46 @@ __all__ = [
     "format_rate",
     "explanation_text",
     "budget_table",
+    "format_share",
+    "proof_text",
 ]
-
-_STATUS_WORDS = {
-    Status.OPTIMAL: "optimal (proved)",
-    Status.FEASIBLE: "feasible, not proved (time limit)",
-    Status.INFEASIBLE: "no plan fits (proved)",
-    Status.UNKNOWN: "unknown (time limit before any plan)",
-}
 
 
 def status_line(result: SearchResult) -> Text:
-    """One line saying what the search proved and how long it took."""
-    words = _STATUS_WORDS[result.status]
+    """What the search proved, how long the whole run took, and the ranking order used."""
+    words = STATUS_WORDS[result.status]
     if result.interrupted:
         words = "stopped by Ctrl-C: the best plans found so far, not proved"
     style = {"optimal": "bold green", "feasible": "yellow"}.get(result.status.value, "bold red")
     line = Text.assemble(("Status: ", "bold"), (words, style), f"   {result.elapsed:.2f} s")
-    if result.time_limited and result.status is Status.OPTIMAL:
-        line.append("   (the time limit cut later ranks short)", style="yellow")
+    cut = [ranked for ranked in result.plans if ranked.unproved]
+    if cut:
+        first = cut[0]
+        line.append(
+            f"\n  rank {first.rank}: not proved: {', '.join(first.unproved)}", style="yellow"
+        )
+    elif result.time_limited and not result.interrupted and result.plans:
+        line.append("\n  the time limit stopped the search for further ranks", style="yellow")
+    elif result.exhausted and result.plans:
+        line.append("\n  no other oscillator choice has a plan (proved)")
+    line.append(f"\n  ranked by, in order: {', '.join(result.order)}", style="dim")
     return line
+
+
+def format_share(share: Fraction) -> str:
+    """A share of an allowance as a percentage, as every output prints it."""
+    return f"{float(share) * 100:.2f} %"
+
+
+def proof_text(ranked: RankedPlan) -> str:
+    """ "proved", or the first stage the time limit stopped."""
+    return "proved" if not ranked.unproved else f"not proved: {ranked.unproved[0]}"
 
 
 def share_text(share: Fraction) -> Text:
     """A share of an allowance as a percentage, coloured by how close to failing it is."""
     style = "green" if share <= Fraction(1, 2) else "yellow" if share <= 1 else "bold red"
-    return Text(f"{float(share) * 100:.2f} %", style=style)
+    return Text(format_share(share), style=style)
 
 
 def ranking_table(result: SearchResult) -> Table:
@@ -81,7 +94,7 @@ def ranking_table(result: SearchResult) -> Table:
             format_relative(worst.worst_case) if worst else "-",
             f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
             clocks,
-            ranked.status.value,
+            proof_text(ranked),
         )
     return table
 

@@ -13,8 +13,8 @@ from clockplan.evaluate import RateCheck
 from clockplan.graphs import limit_text, rate_setting_text, rate_verdict, setting_text
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.render import format_rate
+from clockplan.result import STATUS_WORDS, RankedPlan, SearchResult, Status
 from clockplan.scenario import Scenario
-from clockplan.solve import RankedPlan, SearchResult, Status
 from clockplan.tree import clock_graph
 
 __all__ = ["report_text", "status_words", "CAUTIONS"]
@@ -34,17 +34,9 @@ CAUTIONS = (
 TERMS = ("tolerance", "stability", "aging", "pulling")
 """The oscillator budget's terms, in the order the report lists them."""
 
-_STATUS_WORDS = {
-    Status.OPTIMAL: "optimal (proved)",
-    Status.FEASIBLE: "feasible, not proved best (the time limit stopped the proof)",
-    Status.INFEASIBLE: "no plan fits (proved)",
-    Status.UNKNOWN: "unknown (the time limit came before any plan)",
-}
-
-
 def status_words(status: Status) -> str:
     """What a search status means, in words; "optimal" only when proved."""
-    return _STATUS_WORDS[status]
+    return STATUS_WORDS[status]
 
 
 def _md(text: object) -> str:
@@ -84,6 +76,7 @@ def _job(result: SearchResult, ranked: RankedPlan) -> str:
         f"- Search: {status_words(result.status)}, {len(result.plans)} plan(s) ranked "
         f"in {result.elapsed:.2f} s"
         + (" (the time limit cut the search short)" if result.time_limited else ""),
+        f"- Ranked by, in order: {', '.join(result.order)}",
         f"- This report: plan rank {ranked.rank}, {status_words(ranked.status)}; it {verdict}",
         f"- Worst share of an allowance: {float(evaluation.worst_share) * 100:.2f} %"
         + (
@@ -94,6 +87,8 @@ def _job(result: SearchResult, ranked: RankedPlan) -> str:
         ),
         f"- Made by clockplan {__version__}",
     ]
+    if ranked.unproved:
+        lines.append(f"- Not proved (the time limit): {', '.join(ranked.unproved)}")
     lines += [f"- Broken limit: {_md(violation)}" for violation in evaluation.violations]
     return "\n".join(lines)
 

@@ -14,7 +14,7 @@ from fractions import Fraction
 from importlib import resources
 from pathlib import Path
 
-from clockplan._fields import Fields
+from clockplan._fields import Fields, hint
 from clockplan.catalog import catalog_frequencies
 from clockplan.circuits import parse_circuit_quantity
 from clockplan.errors import ScenarioError
@@ -56,8 +56,11 @@ __all__ = [
     "parse_scenario",
     "default_scenario_path",
     "MAX_CANDIDATES",
+    "RANKING_GOALS",
 ]
 
+RANKING_GOALS = ("worst-share", "cost", "fastest", "ceilings")
+"""What ``rank_by`` may put first, in the default ranking order."""
 MAX_CANDIDATES = 2_000_000
 """The most candidate frequencies one source may offer the search."""
 MAX_ITEMS = 1000
@@ -127,9 +130,10 @@ class Scenario:
     dividers: tuple[Divider, ...]
     muxes: tuple[Mux, ...]
     peripherals: tuple[Peripheral, ...]
-    rank_by: str = "worst-share"
-    """What ranks plans first: "worst-share" (the default) or "cost" (cheapest sources first,
-    among plans that meet every allowance; then the worst share)."""
+    rank_by: tuple[str, ...] = ("worst-share", "cost", "fastest", "ceilings")
+    """The goals in ranking order, most important first (every one of RANKING_GOALS): the
+    worst share of an allowance, the cost of the oscillators in use, the clocks marked
+    "fastest", the rates under a ceiling."""
 
     def source(self, name: str) -> Source:
         """The source called ``name``."""
@@ -194,7 +198,7 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
         ) from None
     top = Fields(document, file=file, path="")
     title = top.take_str("title", Path(file).stem)
-    rank_by = top.take_str("rank_by", "worst-share", choices=("worst-share", "cost"))
+    rank_by = top.take("rank_by", _ranking, RANKING_GOALS)
     conditions = _read_conditions(top)
     sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions))
     if not sources:
@@ -213,6 +217,26 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
 
     check_structure(scenario)
     return scenario
+
+
+def _ranking(value: object) -> tuple[str, ...]:
+    """``rank_by``: one goal or a list of goals to rank first; the others follow in the
+    default order."""
+    goals = [value] if isinstance(value, str) else value
+    if not isinstance(goals, list) or not goals or not all(isinstance(g, str) for g in goals):
+        raise QuantityError(
+            f"{value!r} is not a goal or a list of goals; give some of "
+            + ", ".join(f'"{goal}"' for goal in RANKING_GOALS)
+        )
+    for goal in goals:
+        if goal not in RANKING_GOALS:
+            raise QuantityError(
+                f"{goal!r} is not a goal{hint(goal, RANKING_GOALS)}; give some of "
+                + ", ".join(f'"{known}"' for known in RANKING_GOALS)
+            )
+    if len(set(goals)) != len(goals):
+        raise QuantityError(f"{value!r} names a goal twice")
+    return (*goals, *(goal for goal in RANKING_GOALS if goal not in goals))
 
 
 def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-def]

@@ -91,7 +91,7 @@ def test_check_json(ceramic_file, capsys):
     data = json.loads(capsys.readouterr().out)
     assert data["status"] == "infeasible"
     assert data["meets_every_allowance"] is False
-    assert data["conflict"] == ["usb (48 MHz kernel) within 0.25 % worst case"]
+    assert data["explanation"]["conflict"] == ["usb (48 MHz kernel) within 0.25 % worst case"]
 
 
 def test_check_passes_on_the_default_board(capsys):

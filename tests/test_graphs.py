@@ -99,7 +99,7 @@ def bench_ranked() -> tuple[Scenario, RankedPlan]:
     plan = Plan({"main": Fraction(12_000_000), "slow": Fraction(32768)}, dict(BENCH_SETTINGS))
     evaluation = evaluate_plan(scenario, plan)
     assert not evaluation.violations
-    return scenario, RankedPlan(1, plan, evaluation, Status.OPTIMAL, 0)
+    return scenario, RankedPlan(1, plan, evaluation, Status.OPTIMAL, (), dict(plan.sources))
 
 
 @pytest.fixture(scope="module")

@@ -169,6 +169,7 @@ def test_two_settings_with_one_c_name_are_refused():
         """
     )
     plan = Plan({"main": Fraction(8_000_000)}, {"fast.divide": 2, "FAST.divide": 4})
-    ranked = RankedPlan(1, plan, evaluate_plan(scenario, plan), Status.OPTIMAL, 0)
+    evaluation = evaluate_plan(scenario, plan)
+    ranked = RankedPlan(1, plan, evaluation, Status.OPTIMAL, (), dict(plan.sources))
     with pytest.raises(ClockplanError, match="'fast.divide' and 'FAST.divide'.*FAST_DIVIDE"):
         header_text(scenario, ranked)

@@ -74,7 +74,7 @@ def test_showcase_plan_prints_rates_errors_allowances_and_can_timing(capsys, mon
     status = main(["plan", str(SHOWCASE), "--top", "1"])
     out = capsys.readouterr().out
     assert status == 0
-    assert "optimal (proved)" in out
+    assert "optimal (every stage proved)" in out
     for name in ("console", "usb", "vehicle_bus", "speaker", "ethernet", "card", "scheduler"):
         assert name in out
     for words in ("115200 baud", "48 MHz kernel", "50 MHz reference", "1 kHz period", "SD clock"):

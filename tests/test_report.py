@@ -19,7 +19,7 @@ def bench_result(status: Status = Status.OPTIMAL) -> SearchResult:
         scenario=scenario,
         status=status,
         plans=(ranked,),
-        precisions={},
+        order=("worst share", "smallest settings"),
         elapsed=0.25,
         time_limited=status is Status.FEASIBLE,
     )
@@ -36,7 +36,7 @@ def test_report_of_the_default_plan(default_scenario):
     result = search(default_scenario, top=2)
     text = report_text(result, result.plans[0])
     assert text.startswith("# Clock plan: Weather-station hub, rev A\n")
-    assert "optimal (proved)" in text
+    assert "optimal (every stage proved)" in text
     assert str(default_scenario.file) in text
     ranking = table_rows(text, "Ranked plans")
     assert len(ranking) == 2 + len(result.plans)  # header, rule, one row per plan

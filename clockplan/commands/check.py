@@ -1,7 +1,7 @@
-"""``clockplan check [FILE]``: a terse yes/no for CI, with the reason when no plan fits.
+"""``clockplan check [FILE]``: a terse verdict for CI, with the reason when no plan fits.
 
-Exit 0 when the best plan meets every allowance, 1 when none does (or the time limit
-stopped the search before a plan), 2 on a bad file or option.
+Exit 0 when the best plan meets every allowance and every stage of it is proved, 1 when
+no plan can (proved), 2 on a bad file or option, 3 when the time limit stopped a proof.
 """
 
 from __future__ import annotations
@@ -12,13 +12,10 @@ import json
 from rich.console import Console
 
 from clockplan.commands.plan import add_search_options, run_search
-from clockplan.export import plan_to_data
+from clockplan.exits import Exit, search_exit
+from clockplan.export import explanation_to_data, plan_to_data
 from clockplan.quantities import format_hz
-from clockplan.render import explanation_text
-from clockplan.solve import Status
-from clockplan.solve.explain import explain_infeasibility
-
-EXIT_OK, EXIT_NO_PLAN = 0, 1
+from clockplan.render import explanation_text, format_share
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
@@ -35,44 +32,49 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
 
 
 def run(args: argparse.Namespace) -> int:
-    """Print the verdict; return 0 (fits), 1 (no plan fits) or 2 (raised as an error)."""
+    """Print the verdict and return the exit status (see the module docstring)."""
     args.top = 1
-    result = run_search(args, show_progress=False)
+    result = run_search(args, show_progress=False, explain=True)
+    verdict = search_exit(result)
     best = result.plans[0] if result.plans else None
-    fits = best is not None and best.evaluation.feasible
-    explanation = None
-    if result.status is Status.INFEASIBLE:
-        explanation = explain_infeasibility(result.scenario, time_limit=args.time_limit)
     if args.json:
         data = {
             "scenario": result.scenario.title,
             "file": result.scenario.file,
             "status": result.status.value,
-            "meets_every_allowance": fits,
+            "proved": result.proved,
+            "exit_status": int(verdict),
+            "meets_every_allowance": best is not None and best.evaluation.feasible,
+            "unproved_stages": list(best.unproved) if best else [],
             "best": plan_to_data(result, best) if best else None,
-            "conflict": list(explanation.conflict) if explanation else [],
-            "conflict_is_minimal": explanation.minimal if explanation else None,
-            "beyond_sources": list(explanation.beyond_sources) if explanation else [],
-            "relaxations": [{"limit": r.limit, "advice": r.advice} for r in explanation.relaxations]
-            if explanation
-            else [],
+            "explanation": explanation_to_data(result.explanation),
         }
         print(json.dumps(data, indent=2))
-        return EXIT_OK if fits else EXIT_NO_PLAN
+        return verdict
     console = Console(highlight=False, soft_wrap=True)
     title = f"{result.scenario.file}: {result.scenario.title}"
-    if fits and best is not None:
-        oscillators = ", ".join(f"{n} {format_hz(f)}" for n, f in best.plan.sources.items())
+    if best is not None:
+        oscillators = ", ".join(f"{n} {format_hz(f)}" for n, f in best.choice.items())
         worst = best.evaluation.worst
         limited = f", limited by {worst.requirement.peripheral}" if worst else ""
-        console.print(
-            f"ok: {title}: {oscillators}; worst share {float(best.evaluation.worst_share):.2%}"
-            f"{limited} ({result.status.value})"
-        )
-        return EXIT_OK
-    if explanation is not None:
-        console.print(f"no plan: {title}")
-        console.print(explanation_text(explanation))
+        figures = f"{oscillators}; worst share {format_share(best.evaluation.worst_share)}{limited}"
+        if verdict is Exit.OK:
+            console.print(f"ok: {title}: {figures} (every stage proved)", markup=False)
+        else:
+            cut = ", ".join(best.unproved) or "the ranks"
+            console.print(
+                f"not proved: {title}: {figures}; the time limit stopped the proof of: {cut}",
+                markup=False,
+            )
+        return verdict
+    if result.explanation is not None:
+        console.print(f"no plan: {title}", markup=False)
+        console.print(explanation_text(result.explanation))
+    elif result.interrupted:
+        console.print(f"interrupted: {title}: no plan found before Ctrl-C", markup=False)
     else:
-        console.print(f"no plan found: {title}: the time limit stopped the search (not proved)")
-    return EXIT_NO_PLAN
+        console.print(
+            f"not proved: {title}: the time limit stopped the search before any plan",
+            markup=False,
+        )
+    return verdict

@@ -5,61 +5,39 @@ guarded by a literal. CP-SAT, given all guards as assumptions, proves the model
 infeasible and names a sufficient set; a deletion pass then drops every limit whose
 removal keeps the rest infeasible, which leaves a minimal conflicting set. For each
 member, the model is solved again without it, and the closest plan says by how much
-that limit must move.
+that limit must move: proved least when CP-SAT proves it, else an upper bound, and said
+so when the time limit stops a step.
 """
 
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass
+from dataclasses import replace
 
 from ortools.sat.python import cp_model
 
 from clockplan.evaluate import Evaluation, RateCheck, evaluate_plan
+from clockplan.interfaces.base import Requirement
 from clockplan.plan import Plan
 from clockplan.quantities import format_relative
+from clockplan.result import Explanation, Relaxation
 from clockplan.scenario import Scenario
-from clockplan.solve.model import ClockModel, Limit, build_model
+from clockplan.settle import settle_settings
+from clockplan.solve.model import RELAXED_ERROR, ClockModel, Limit, build_model
 from clockplan.tree import feeding_source_names
 
-__all__ = ["Relaxation", "Explanation", "explain_infeasibility"]
-
-
-@dataclass(frozen=True)
-class Relaxation:
-    """What happens when one limit of the conflict is let go."""
-
-    limit: str
-    """The limit in words."""
-    advice: str
-    """How far the limit must move, with the numbers of the closest plan."""
-    plan: Plan | None
-    evaluation: Evaluation | None
-
-
-@dataclass(frozen=True)
-class Explanation:
-    """A conflicting set of limits and one relaxation per member."""
-
-    conflict: tuple[str, ...]
-    """The limits, in words, that cannot all hold."""
-    minimal: bool
-    """Whether the deletion pass finished (every member is needed for the conflict)."""
-    relaxations: tuple[Relaxation, ...]
-    beyond_sources: tuple[str, ...] = ()
-    """Rates that no setting can save: every source that may feed them has a budget
-    larger than their allowance (each alone is a conflict; all are listed here)."""
+__all__ = ["explain_infeasibility", "beyond_sources"]
 
 
 def explain_infeasibility(scenario: Scenario, *, time_limit: float = 30.0) -> Explanation:
     """Name a minimal set of conflicting limits of ``scenario`` and how to relax each."""
-    deadline = time.monotonic() + time_limit
+    deadline = time.monotonic() + max(time_limit, 0.01)
     beyond = beyond_sources(scenario)
     handles = build_model(scenario, relaxable=True)
     limits = list(handles.limits.values())
     status, solver = _solve(handles, limits, deadline)
     if status != cp_model.INFEASIBLE:
-        return Explanation((), False, (), beyond)
+        return Explanation((), False, (), beyond, time_limited=status == cp_model.UNKNOWN)
     by_index = {limit.literal.index: limit for limit in limits}
     core = [by_index[i] for i in solver.sufficient_assumptions_for_infeasibility() if i in by_index]
     minimal = True
@@ -72,7 +50,12 @@ def explain_infeasibility(scenario: Scenario, *, time_limit: float = 30.0) -> Ex
             minimal = False
             break
     relaxations = tuple(_relax(scenario, handles, limits, limit, deadline) for limit in core)
-    return Explanation(tuple(limit.text for limit in core), minimal, relaxations, beyond)
+    cut = not minimal or any(
+        not relaxation.proved and relaxation.plan is None for relaxation in relaxations
+    )
+    return Explanation(
+        tuple(limit.text for limit in core), minimal, relaxations, beyond, time_limited=cut
+    )
 
 
 def beyond_sources(scenario: Scenario) -> tuple[str, ...]:
@@ -97,14 +80,21 @@ def beyond_sources(scenario: Scenario) -> tuple[str, ...]:
 
 
 def _solve(
-    handles: ClockModel, holding: list[Limit], deadline: float, objective: object = None
+    handles: ClockModel,
+    holding: list[Limit],
+    deadline: float,
+    objective: cp_model.IntVar | None = None,
 ) -> tuple[int, cp_model.CpSolver]:
     model = handles.model
     model.clear_assumptions()
     model.clear_objective()
     if objective is not None:
-        model.minimize(objective)  # type: ignore[arg-type]
+        model.minimize(objective)
     model.add_assumptions([limit.literal for limit in holding])
+    return _run(model, deadline)
+
+
+def _run(model: cp_model.CpModel, deadline: float) -> tuple[int, cp_model.CpSolver]:
     solver = cp_model.CpSolver()
     solver.parameters.max_time_in_seconds = max(0.01, deadline - time.monotonic())
     solver.parameters.num_workers = 1  # core extraction needs a single worker
@@ -118,13 +108,79 @@ def _relax(
     others = [other for other in limits if other is not limit]
     objective = limit.share if limit.share is not None else handles.worst
     status, solver = _solve(handles, others, deadline, objective)
+    if status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+        proved = status == cp_model.OPTIMAL
+        plan = _plan(handles, solver)
+        evaluation = evaluate_plan(scenario, plan)
+        advice = _advice(limit, evaluation)
+        if not proved:
+            advice += " (an upper bound: the time limit stopped the search for less)"
+        return Relaxation(limit.text, advice, plan, evaluation, proved)
+    if status == cp_model.UNKNOWN:
+        return Relaxation(
+            limit.text,
+            "the time limit stopped the search before a plan without it",
+            None,
+            None,
+            proved=False,
+        )
+    if limit.requirement is not None and not limit.requirement.ceiling:
+        return _beyond_the_model(scenario, limit, limit.requirement, deadline)
+    return Relaxation(
+        limit.text, "letting this limit go alone does not give a plan (proved)", None, None
+    )
+
+
+def _beyond_the_model(
+    scenario: Scenario, limit: Limit, requirement: Requirement, deadline: float
+) -> Relaxation:
+    """The relaxable model keeps every rate within 50 % of its target; look past that with
+    the rate left out altogether, so that "no plan" is only said when it is proved."""
+    without = _without(scenario, requirement)
+    handles = build_model(without)
+    status, solver = _run(handles.model, deadline)
+    if status == cp_model.INFEASIBLE:
+        return Relaxation(
+            limit.text, "letting this limit go alone does not give a plan (proved)", None, None
+        )
     if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
         return Relaxation(
-            limit.text, "letting this limit go alone does not give a plan", None, None
+            limit.text,
+            "the time limit stopped the search before a plan without it",
+            None,
+            None,
+            proved=False,
         )
-    plan = handles.read_plan(solver)
+    tree = handles.read_tree(solver)
+    plan = Plan(
+        tree.sources, {**tree.settings, **settle_settings(scenario, tree.clocks, tree.roots)}
+    )
     evaluation = evaluate_plan(scenario, plan)
-    return Relaxation(limit.text, _advice(limit, evaluation), plan, evaluation)
+    check = next(c for c in evaluation.checks if c.requirement == requirement)
+    advice = (
+        f"a plan exists only with {requirement.peripheral} ({requirement.label}) more than "
+        f"{format_relative(RELAXED_ERROR)} off; one such plan is "
+        f"{format_relative(check.worst_case)} off at worst"
+    )
+    return Relaxation(limit.text, advice, plan, evaluation, proved=False)
+
+
+def _without(scenario: Scenario, requirement: Requirement) -> Scenario:
+    peripherals = []
+    for peripheral in scenario.peripherals:
+        kept = tuple(r for r in peripheral.requirements if r != requirement)
+        if kept:
+            peripherals.append(replace(peripheral, requirements=kept))
+    return replace(scenario, peripherals=tuple(peripherals))
+
+
+def _plan(handles: ClockModel, solver: cp_model.CpSolver) -> Plan:
+    """The solution's plan, each rate's own settings settled for its clock."""
+    tree = handles.read_tree(solver)
+    return Plan(
+        tree.sources,
+        {**tree.settings, **settle_settings(handles.scenario, tree.clocks, tree.roots)},
+    )
 
 
 def _advice(limit: Limit, evaluation: Evaluation) -> str:
@@ -148,7 +204,7 @@ def _allowance_advice(check: RateCheck) -> str:
         f"allow {format_relative(check.worst_case)} on {label} instead of "
         f"{format_relative(check.allowance)}"
     )
-    room = check.allowance - abs(check.error)
+    room = (check.allowance - abs(check.error)) / (1 + check.error)
     if room > 0:
         advice += (
             f", or choose a source with a budget of at most {format_relative(room)} "

@@ -1,14 +1,25 @@
-"""Search: solve the model, rank the best plan for each oscillator choice, report honestly.
+"""Search: rank plans stage by stage, every stage proved, the same plan on every machine.
 
-Rank 1 is the proven best plan overall; rank k is the proven best plan among the
-oscillator choices not yet ranked. Each rank is solved in two stages: first the
-worst share of an allowance is minimised (its status is the plan's status); then,
-holding it, the tie-breakers in order: clocks marked "fastest" as fast as allowed,
-rates under a ceiling as fast as allowed, the smallest sum of every rate's share,
-the earlier candidate frequency (catalog or list order), the smallest sum of
-settings. The tie-breaking stages may take TIE_BREAK_SECONDS or as long as the first
-stage, whichever is more; when it is proved too (``tie_breaks_proved``), the plan does not
-depend on how many workers CP-SAT runs, save for exact ties on all of these.
+"The best plan" is defined lexicographically (README, "How plans are ranked"):
+
+1. the scenario's goals in its ranking order, by default the worst share of an allowance
+   (in steps of 1/10 000, rounded up), then the cost of the oscillators in use, then the
+   clocks marked "fastest" (their sum in whole hertz, larger first), then the rates under a
+   ceiling (likewise); ``rank_by`` may put any of these first;
+2. every rate's share (their sum in steps: no rate can improve without another worsening);
+3. every rate's worst-case error (their sum in steps of 10**-9), the same rule at a finer
+   grain, so that errors far below the share's resolution still count;
+4. the smallest settings, in a fixed order (sources, PLLs, dividers, muxes in file order):
+   the plan is unique.
+
+Each stage is a CP-SAT solve that must end OPTIMAL; its value is then held (by narrowing
+the domain of the variable that carries it) for the stages after it. A rate's own settings
+are not searched: :mod:`clockplan.settle` computes them exactly for the clock that feeds it.
+Nothing depends on wall-clock time except whether a stage is proved before the time
+limit; a stage the limit cuts short is reported by name and the plan is marked unproved.
+
+Rank k is the best plan among the oscillator choices not ranked before, where a choice is
+the set of oscillators the plan uses with their frequencies.
 """
 
 from __future__ import annotations
@@ -16,85 +27,50 @@ from __future__ import annotations
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
-from enum import StrEnum
+from fractions import Fraction
 from threading import Event, Thread
 
+from ortools.sat import sat_parameters_pb2
 from ortools.sat.python import cp_model
 
-from clockplan.evaluate import Evaluation, evaluate_plan
+from clockplan.errors import InputError, InternalError
+from clockplan.evaluate import evaluate_plan
 from clockplan.plan import Plan
+from clockplan.result import RankedPlan, SearchResult, Stage, Status
 from clockplan.scenario import Scenario
-from clockplan.solve.model import SHARE_STEPS, ClockModel, build_model
+from clockplan.settle import settle_settings
+from clockplan.solve.model import ERROR_DIGITS, ClockModel, build_model
 
-__all__ = ["Status", "RankedPlan", "SearchResult", "search", "DEFAULT_TIME_LIMIT"]
+__all__ = [
+    "search",
+    "ranking_order",
+    "STAGE_NAMES",
+    "DEFAULT_TIME_LIMIT",
+    "DEFAULT_WORKERS",
+    "MAX_WORKERS",
+]
 
 DEFAULT_TIME_LIMIT = 60.0
 """Seconds the whole search may take unless the caller says otherwise."""
-TIE_BREAK_SECONDS = 1.0
-"""The tie-breaking stages may take this long together, or as long as the first stage took,
-whichever is more."""
 DEFAULT_WORKERS = 8
 """CP-SAT search workers (threads); its portfolio pays even on two cores."""
+MAX_WORKERS = 64
 
-
-class Status(StrEnum):
-    """What the solver could prove."""
-
-    OPTIMAL = "optimal"
-    """Proved: no plan is better."""
-    FEASIBLE = "feasible"
-    """A plan, but the time limit stopped the proof."""
-    INFEASIBLE = "infeasible"
-    """Proved: no plan meets every limit and allowance."""
-    UNKNOWN = "unknown"
-    """The time limit stopped the search before any plan or proof."""
-
-
-@dataclass(frozen=True)
-class RankedPlan:
-    """One plan of the ranking with its exact evaluation."""
-
-    rank: int
-    plan: Plan
-    evaluation: Evaluation
-    status: Status
-    worst_steps: int
-    """The objective as the solver saw it: worst share in steps of 1/SHARE_STEPS."""
-    tie_breaks_proved: bool = True
-    """Whether the tie-breaking stage was proved too (it has a shorter time limit)."""
-
-
-@dataclass(frozen=True)
-class SearchResult:
-    """The ranked plans and what the search could prove about them."""
-
-    scenario: Scenario
-    status: Status
-    """Status of rank 1 (the answer to "what is the best plan?")."""
-    plans: tuple[RankedPlan, ...]
-    precisions: dict[str, int]
-    """Each rate's synthesis error entered the objective rounded up to 10**-digits."""
-    elapsed: float
-    """Seconds spent searching."""
-    time_limited: bool
-    """Whether the time limit cut any part of the search short."""
-    rounded_limits: frozenset[str] = frozenset()
-    """Rates whose hard limit was checked on the rounded-up error (64-bit room ran out)."""
-    interrupted: bool = False
-    """Whether Ctrl-C stopped the search; the plans are the best found until then."""
-
-    @property
-    def precision(self) -> int:
-        """The coarsest rounding of any rate's error in the objective, in decimal digits."""
-        return min(self.precisions.values(), default=9)
-
-
-_STATUS = {
-    cp_model.OPTIMAL: Status.OPTIMAL,
-    cp_model.FEASIBLE: Status.FEASIBLE,
-    cp_model.INFEASIBLE: Status.INFEASIBLE,
-    cp_model.UNKNOWN: Status.UNKNOWN,
+STAGE_NAMES = {
+    "worst-share": "worst share",
+    "cost": "cost",
+    "fastest": "fastest clocks",
+    "ceilings": "ceiling rates",
+    "shares": "sum of shares",
+    "errors": "sum of errors",
+    "settings": "smallest settings",
 }
+"""Each ranking criterion's name as printed."""
+
+
+def ranking_order(scenario: Scenario) -> tuple[str, ...]:
+    """The stages of the ranking, most important first (criteria keys of STAGE_NAMES)."""
+    return (*scenario.rank_by, "shares", "errors", "settings")
 
 
 def search(
@@ -104,140 +80,284 @@ def search(
     time_limit: float = DEFAULT_TIME_LIMIT,
     workers: int = DEFAULT_WORKERS,
     progress: Callable[[int, int], None] | None = None,
+    started: float | None = None,
 ) -> SearchResult:
-    """Rank up to ``top`` plans, each for a different choice of oscillator frequencies."""
-    started = time.monotonic()
+    """Rank up to ``top`` plans, each for a different choice of oscillators.
+
+    ``time_limit`` bounds the whole search from ``started`` (a ``time.monotonic()`` reading,
+    by default now), model building included.
+    """
+    if isinstance(top, bool) or not isinstance(top, int) or top < 1:
+        raise InputError("top", f"{top!r} is not a positive count of plans")
+    if isinstance(workers, bool) or not isinstance(workers, int) or not 1 <= workers <= MAX_WORKERS:
+        raise InputError("workers", f"{workers!r} is not a thread count from 1 to {MAX_WORKERS}")
+    if not isinstance(time_limit, (int, float)) or not time_limit > 0:
+        raise InputError("time_limit", f"{time_limit!r} is not a positive number of seconds")
+    started = time.monotonic() if started is None else started
     deadline = started + time_limit
     handles = build_model(scenario)
+    order = ranking_order(scenario)
+    domains = _Domains(handles)
     plans: list[RankedPlan] = []
     status = Status.UNKNOWN
-    time_limited = False
-    interrupted = False
+    time_limited = interrupted = exhausted = False
     for rank in range(1, top + 1):
         if progress:
             progress(rank - 1, top)
-        found = _solve_rank(handles, deadline, workers)
-        time_limited |= found.time_limited
+        domains.restore()
+        found = _Ranker(handles, order, deadline, workers, domains).solve()
         interrupted |= found.interrupted
-        if rank == 1:
-            status = found.status
-        if found.status in (Status.INFEASIBLE, Status.UNKNOWN):
+        time_limited |= found.time_limited
+        if found.plan is None:
+            exhausted = found.exhausted
+            if rank == 1:
+                status = Status.INFEASIBLE if exhausted else Status.UNKNOWN
             break
         evaluation = evaluate_plan(scenario, found.plan)
+        proved = all(stage.proved for stage in found.stages)
+        ranked_status = Status.OPTIMAL if proved else Status.FEASIBLE
+        if rank == 1:
+            status = ranked_status
         plans.append(
-            RankedPlan(
-                rank,
-                found.plan,
-                evaluation,
-                found.status,
-                found.worst_steps,
-                found.tie_breaks_proved,
-            )
+            RankedPlan(rank, found.plan, evaluation, ranked_status, found.stages, found.choice)
         )
-        if found.interrupted:
+        if interrupted or not proved:
             break
-        handles.forbid_sources(found.plan.sources)
-        if time.monotonic() >= deadline:
-            time_limited = True
-            break
-    if not plans and status is Status.UNKNOWN and not (time_limited or interrupted):
-        status = Status.INFEASIBLE
+        handles.exclude_choice(found.choice)
     if progress:
         progress(top, top)
+    precisions = {
+        rate.requirement.setting: ERROR_DIGITS for rate in handles.rates if rate.share is not None
+    }
     return SearchResult(
-        scenario,
-        status,
-        tuple(plans),
-        dict(handles.precisions),
-        time.monotonic() - started,
-        time_limited,
-        frozenset(handles.rounded_limits),
-        interrupted,
+        scenario=scenario,
+        status=status,
+        plans=tuple(plans),
+        order=tuple(STAGE_NAMES[key] for key in order),
+        elapsed=time.monotonic() - started,
+        time_limited=time_limited,
+        exhausted=exhausted,
+        interrupted=interrupted,
+        precisions=precisions,
+        bounded_errors=frozenset(handles.bounded_errors),
+        rounded_limits=frozenset(handles.rounded_limits),
     )
 
 
 @dataclass(frozen=True)
-class _Rank:
-    plan: Plan
-    status: Status
-    worst_steps: int
-    time_limited: bool
-    tie_breaks_proved: bool
+class _Found:
+    """One rank's outcome."""
+
+    plan: Plan | None
+    stages: tuple[Stage, ...] = ()
+    choice: dict[str, Fraction] | None = None
+    time_limited: bool = False
     interrupted: bool = False
+    exhausted: bool = False
+    """Proved: no plan is left among the choices not ranked yet."""
 
 
-def _solve_rank(handles: ClockModel, deadline: float, workers: int) -> _Rank:
-    model = handles.model
-    model.clear_hints()
-    began = time.monotonic()
-    holding: list[cp_model.IntVar] = []
-    cost_proved = True
-    cheapest = _Run(cp_model.CpSolver(), cp_model.OPTIMAL)
-    if handles.cost is not None and handles.scenario.rank_by == "cost":
-        model.minimize(handles.cost)
-        cheapest = _run(model, deadline, workers)
-        cost_proved = cheapest.status == cp_model.OPTIMAL
-        if cheapest.status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
-            cost = int(cheapest.solver.value(handles.cost))
-            holding.append(_hold(model, handles.cost, cost))
-            model.add_assumptions(holding)
-            _hint(handles, cheapest.solver)
-    model.minimize(handles.worst)
-    first = _run(model, deadline, workers)
-    model.clear_hints()
-    model.clear_assumptions()
-    status = _STATUS.get(first.status, Status.UNKNOWN)
-    limited = first.status in (cp_model.UNKNOWN, cp_model.FEASIBLE) or not cost_proved
-    if status is Status.OPTIMAL and not cost_proved:
-        status = Status.FEASIBLE
-    interrupted = first.interrupted or cheapest.interrupted
-    if status in (Status.INFEASIBLE, Status.UNKNOWN):
-        return _Rank(Plan({}, {}), status, SHARE_STEPS + 1, limited, False, interrupted)
-    steps = int(first.solver.value(handles.worst))
-    plan = handles.read_plan(first.solver)
-    proved = not interrupted
-    if interrupted:
-        return _Rank(plan, status, steps, True, False, True)
-    holding.append(_hold(model, handles.worst, steps))
-    tie_deadline = min(
-        deadline, time.monotonic() + max(TIE_BREAK_SECONDS, time.monotonic() - began)
-    )
-    solver = first.solver
-    for expression in handles.tie_breakers():
-        _hint(handles, solver)
-        model.clear_assumptions()
-        model.add_assumptions(holding)
-        model.maximize(expression)
-        run = _run(model, tie_deadline, workers)
-        model.clear_hints()
-        interrupted = run.interrupted
-        if run.status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
-            proved = False
-            break
-        solver = run.solver
-        plan = handles.read_plan(solver)
-        if run.status != cp_model.OPTIMAL or interrupted:
-            proved = False
-            break
-        holding.append(_hold(model, expression, int(solver.value(expression)), at_least=True))
-    model.clear_assumptions()
-    return _Rank(plan, status, steps, limited, proved, interrupted)
+class _Domains:
+    """The domains of the variables stages narrow, kept so each rank starts afresh."""
+
+    def __init__(self, handles: ClockModel) -> None:
+        targets = [
+            handles.worst,
+            handles.cost_total,
+            handles.fastest_total,
+            handles.ceilings_total,
+            handles.shares_total,
+            handles.errors_total,
+        ]
+        variables = [var for var in targets if var is not None]
+        variables += [var for var, _, _ in handles.order]
+        self.saved = {var.index: (var, list(var.proto.domain)) for var in variables}
+
+    def restore(self) -> None:
+        for var, domain in self.saved.values():
+            _set_domain(var, domain)
 
 
-@dataclass
-class _Run:
-    solver: cp_model.CpSolver
-    status: int
-    interrupted: bool = False
+def _set_domain(var: cp_model.IntVar, bounds: list[int]) -> None:
+    domain = var.proto.domain
+    domain.clear()
+    domain.extend(bounds)
 
 
-def _run(model: cp_model.CpModel, deadline: float, workers: int) -> _Run:
+class _Ranker:
+    """Solves one rank stage by stage."""
+
+    def __init__(
+        self,
+        handles: ClockModel,
+        order: tuple[str, ...],
+        deadline: float,
+        workers: int,
+        domains: _Domains,
+    ) -> None:
+        self.handles = handles
+        self.model = handles.model
+        self.order = order
+        self.deadline = deadline
+        self.workers = workers
+        self.stages: list[Stage] = []
+        self.solver: cp_model.CpSolver | None = None
+        self.time_limited = False
+        self.interrupted = False
+
+    def solve(self) -> _Found:
+        self.model.clear_hints()
+        stopped = False
+        for key in self.order:
+            name = STAGE_NAMES[key]
+            if stopped:
+                self.stages.append(Stage(name, False))
+                continue
+            outcome = self.stage(key, name)
+            if outcome == "none":
+                if self.solver is None:
+                    exhausted = not (self.time_limited or self.interrupted)
+                    return _Found(
+                        None,
+                        time_limited=self.time_limited,
+                        interrupted=self.interrupted,
+                        exhausted=exhausted,
+                    )
+                stopped = True
+            elif outcome == "cut":
+                stopped = True
+        if self.solver is None:  # every stage was empty: any plan will do, and it is unique
+            status = self.run(None, minimize=True)
+            if status == "none":
+                return _Found(None, exhausted=not self.time_limited, time_limited=self.time_limited)
+        assert self.solver is not None
+        tree = self.handles.read_tree(self.solver)
+        rates = settle_settings(self.handles.scenario, tree.clocks, tree.roots)
+        plan = Plan(tree.sources, {**tree.settings, **rates})
+        return _Found(
+            plan,
+            tuple(self.stages),
+            self.handles.read_choice(self.solver),
+            self.time_limited,
+            self.interrupted,
+        )
+
+    def stage(self, key: str, name: str) -> str:
+        """Solve one stage and hold its value; "done", "cut" (not proved) or "none"."""
+        if key == "settings":
+            return self.settings_stage(name)
+        target, maximize = self.objective(key)
+        if target is None:
+            return "done"
+        outcome = self.run(target, minimize=not maximize)
+        if outcome in ("none", "cut"):
+            self.stages.append(Stage(name, False))
+            return outcome
+        assert self.solver is not None
+        value = int(self.solver.value(target))
+        low, high = _bounds(target)
+        _set_domain(target, [value, high] if maximize else [low, value])
+        self.stages.append(Stage(name, True, value))
+        return "done"
+
+    def objective(self, key: str) -> tuple[cp_model.IntVar | None, bool]:
+        """The variable a stage optimises, and whether larger is better."""
+        handles = self.handles
+        return {
+            "worst-share": (handles.worst, False),
+            "cost": (handles.cost_total, False),
+            "fastest": (handles.fastest_total, True),
+            "ceilings": (handles.ceilings_total, True),
+            "shares": (handles.shares_total if len(handles.rates) > 1 else None, False),
+            "errors": (handles.errors_total, False),
+        }[key]
+
+    def settings_stage(self, name: str) -> str:
+        """Smallest settings first, in the fixed order: each setting in turn at the smallest
+        value the stages before leave it, then held there."""
+        for var, low, high in self.handles.order:
+            if low == high:
+                continue
+            outcome = self.run(var, minimize=True)
+            if outcome in ("none", "cut"):
+                self.stages.append(Stage(name, False))
+                return outcome
+            assert self.solver is not None
+            value = int(self.solver.value(var))
+            _set_domain(var, [value, value])
+        self.stages.append(Stage(name, True))
+        return "done"
+
+    def run(self, objective: cp_model.LinearExprT | None, *, minimize: bool) -> str:
+        """One CP-SAT solve: "done" (proved), "cut" (a plan, not proved) or "none" (no plan:
+        proved, or the time limit came before any)."""
+        model = self.model
+        model.clear_objective()
+        if objective is not None:
+            if minimize:
+                model.minimize(objective)
+            else:
+                model.maximize(objective)
+        solver, status, interrupted = _solve(model, self.deadline, self.workers)
+        if status == cp_model.MODEL_INVALID:
+            raise InternalError(
+                f"CP-SAT refused the model: {model.validate() or 'no reason given'}"
+            )
+        self.interrupted |= interrupted
+        if status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            self.solver = solver
+            self.hint(solver)
+        if status == cp_model.OPTIMAL and not interrupted:
+            return "done"
+        if status == cp_model.INFEASIBLE and not interrupted:
+            if self.solver is not None:
+                raise InternalError("a stage held at its proved value left no plan")
+            return "none"
+        self.time_limited |= not interrupted
+        return "cut" if self.solver is not None and status != cp_model.INFEASIBLE else "none"
+
+    def hint(self, solver: cp_model.CpSolver) -> None:
+        """Start the next stage from this solution."""
+        self.model.clear_hints()
+        for var in self.handles.decisions:
+            self.model.add_hint(var, solver.value(var))
+
+
+def _bounds(var: cp_model.IntVar) -> tuple[int, int]:
+    domain = list(var.proto.domain)
+    return domain[0], domain[-1]
+
+
+def _solve(
+    model: cp_model.CpModel, deadline: float, workers: int
+) -> tuple[cp_model.CpSolver, int, bool]:
+    """One solve with the search's settings (see :func:`_parameters`)."""
+    return _solve_once(model, deadline, _parameters(workers))
+
+
+def _parameters(workers: int) -> sat_parameters_pb2.SatParameters:
+    """The solver's settings. One worker restarts often and switches between CP-SAT's
+    strategies (its default single-thread search stalls on these models); several workers
+    run CP-SAT's own portfolio. Probing is off: on some models it makes CP-SAT stop the
+    whole process on a product it merged itself (tests/test_solver.py). Only speed depends
+    on these settings: every stage's optimum is proved."""
+    parameters = sat_parameters_pb2.SatParameters()
+    parameters.num_workers = workers
+    if workers == 1:
+        parameters.search_branching = cp_model.PORTFOLIO_WITH_QUICK_RESTART_SEARCH
+    parameters.random_seed = 1
+    parameters.catch_sigint_signal = False
+    parameters.cp_model_probing_level = 0
+    return parameters
+
+
+def _solve_once(
+    model: cp_model.CpModel, deadline: float, parameters: sat_parameters_pb2.SatParameters
+) -> tuple[cp_model.CpSolver, int, bool]:
     """Solve in a thread so that Ctrl-C in the main thread can stop the search gracefully."""
     solver = cp_model.CpSolver()
+    solver.parameters.CopyFrom(parameters)
     solver.parameters.max_time_in_seconds = max(0.01, deadline - time.monotonic())
-    solver.parameters.num_workers = workers
-    solver.parameters.random_seed = 1
-    solver.parameters.catch_sigint_signal = False
     outcome: list[int] = []
     done = Event()
 
@@ -258,21 +378,5 @@ def _run(model: cp_model.CpModel, deadline: float, workers: int) -> _Run:
             interrupted = True
             solver.stop_search()
     if not outcome:
-        raise RuntimeError("CP-SAT stopped without a status (see the error above)")
-    return _Run(solver, outcome[0], interrupted)
-
-
-def _hold(
-    model: cp_model.CpModel, expression: cp_model.LinearExprT, value: int, *, at_least: bool = False
-) -> cp_model.IntVar:
-    """A literal that, assumed, keeps ``expression`` at ``value`` (≥ it, or ≤ it for the worst)."""
-    literal = model.new_bool_var(f"hold_{len(model.proto.variables)}")
-    constraint = expression >= value if at_least else expression <= value
-    model.add(constraint).only_enforce_if(literal)
-    return literal
-
-
-def _hint(handles: ClockModel, solver: cp_model.CpSolver) -> None:
-    """Hint the settings and oscillator choices of the last solution to the next stage."""
-    for var in list(handles.settings.values()) + list(handles.source_values.values()):
-        handles.model.add_hint(var, solver.value(var))
+        raise InternalError("CP-SAT stopped without a status")
+    return solver, outcome[0], interrupted
