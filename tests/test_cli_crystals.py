@@ -136,12 +136,19 @@ def test_usb_from_12_mhz_through_a_pll(capsys: pytest.CaptureFixture[str]) -> No
 
 
 def test_usb_without_a_pll_needs_a_multiple_of_48_mhz(capsys: pytest.CaptureFixture[str]) -> None:
-    # USB 2.0 §7.1.11 allows ±0.25 %; 12 MHz divided can only go down, so it misses by 75 %.
+    # Source: USB 2.0 §7.1.11: ±0.05 % unless the device is full-speed only (then ±0.25 %).
+    # 12 MHz divided can only go down, so it misses by 75 %.
     status, report = run_json(capsys, "--usb-full-speed", "--candidates", "12M,48M,25M")
     assert status == 0
     assert [row["frequency_hz"] for row in report["ranked"]] == ["48000000", "25000000", "12000000"]
     assert report["ranked"][2]["rates"][0]["error"] == "-3/4"
-    assert report["rates"][0]["allowance_ppm"] == pytest.approx(2500)
+    assert report["rates"][0]["allowance"] == "1/2000"
+    assert "high-speed-capable device" in report["rates"][0]["allowance_basis"]
+    status, report = run_json(
+        capsys, "--usb-full-speed", "--full-speed-only-device", "--candidates", "48M"
+    )
+    assert status == 0 and report["rates"][0]["allowance"] == "1/400"
+    assert "full-speed-only device" in report["rates"][0]["allowance_basis"]
 
 
 def test_json_figures_recompute_from_the_oscillator_and_divisor(
@@ -173,7 +180,7 @@ def test_json_figures_recompute_from_the_oscillator_and_divisor(
             assert Fraction(rate["achieved_hz"]) == achieved
             assert Fraction(rate["error"]) == achieved / wanted[rate["label"]] - 1
     assert report["rates"][1]["allowance"] == "1/200"
-    # 12.288 MHz: fs and 1 kHz exact, 115200 baud at 107/16 is −0.31 % (inside ±2.29 %).
+    # 12.288 MHz: fs and 1 kHz exact, 115200 baud at 107/16 is −0.31 % (inside ±2.24 %).
     assert status == 0 and report["ranked"][0]["frequency_hz"] == "12288000"
     assert report["ranked"][0]["rates"][0]["divisor"] == "107/16"
 
@@ -190,7 +197,8 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
         build_parser().parse_args(["crystals", "--help"])
     out = capsys.readouterr().out
     assert stop.value.code == 0
-    assert "±0.25 % (USB 2.0 §7.1.11)" in out and "default 0.1 %" in out
+    assert "±0.05 % (USB 2.0 §7.1.11" in out and "±0.25 % applies" in out
+    assert "default 0.1 %" in out
     for option in ("--baud", "--fs", "--mclk", "--rate", "--pll", "--range", "--step", "--json"):
         assert option in out
 
@@ -213,6 +221,7 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
         (["--baud", "9600", "--divisor", "0..10"], "--divisor: 0 is below"),
         (["--baud", "9600", "--pll", "--vco", "96 MHz"], "--vco: '96 MHz' is not a range"),
         (["--baud", "9600", "--top", "0"], "--top: '0' is not a whole number from 1"),
+        (["--baud", "9600", "--full-speed-only-device"], "--full-speed-only-device: says"),
     ],
 )
 def test_bad_input_is_one_line_and_exit_2(

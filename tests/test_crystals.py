@@ -27,7 +27,6 @@ from clockplan.crystals import (
     uart_targets,
     usb_full_speed_target,
 )
-from clockplan.interfaces.usb import FULL_SPEED_TOLERANCE
 from clockplan.quantities import QuantityError
 
 MHZ = 10**6
@@ -267,12 +266,18 @@ def test_fractional_baud_divisor_counts_sixteenths() -> None:
     assert float(result.error) == pytest.approx(-0.000799, abs=1e-6)
 
 
-def test_allowances_come_from_the_interface_modules() -> None:
-    # Source: uart.py derivation, 8N1 at 16×: 7/153 / 2 = 7/306; USB 2.0 §7.1.11: ±0.25 %.
-    assert uart(9600)[0].allowance == Fraction(7, 306)
-    assert (
-        usb_full_speed_target(divisor=WHOLE).allowance == FULL_SPEED_TOLERANCE == Fraction(1, 400)
-    )
+def test_quick_search_allowances_follow_the_standards() -> None:
+    # Derived from the published receiver limits of serial-port datasheets (R_slow 144/151,
+    # R_fast 160/153 for 8N1 at 16×; 24/25 and 80/77 at 8×): each end ±e at opposite
+    # extremes, (1+e)/(1−e) ≤ R_fast, gives 7/313 at 16× and 3/157 at 8×.
+    assert uart(9600)[0].allowance == Fraction(7, 313)
+    (eight,) = uart_targets([Fraction(9600)], oversampling=8, fraction_bits=0, divisor=WHOLE)
+    assert eight.allowance == Fraction(3, 157)
+    # Source: USB 2.0 §7.1.11: ±0.05 % unless the device is full-speed only (±0.25 %).
+    strict = usb_full_speed_target(divisor=WHOLE)
+    assert strict.allowance == Fraction(1, 2000) and "high-speed-capable" in strict.allowance_basis
+    only = usb_full_speed_target(divisor=WHOLE, full_speed_only_device=True)
+    assert only.allowance == Fraction(1, 400) and "full-speed-only" in only.allowance_basis
 
 
 # --- the PLL -------------------------------------------------------------------------------
