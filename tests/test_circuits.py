@@ -124,8 +124,8 @@ def test_pulling_sensitivity_worked_check() -> None:
 
 
 def test_critical_transconductance_and_gain_margin_worked_check() -> None:
-    # Source: reference sheet §7.3 (oscillator design guide formula; same numbers in a
-    # public design notebook). Step by step:
+    # Source: the oscillator design guide, application note AN2867 (gm_crit formula and the
+    # gain margin); a public design notebook works this very case. Step by step:
     #   2πF = 2π · 16 MHz = 1.00531e8 rad/s, squared 1.01065e16
     #   (C0 + CL)² = (7 pF + 9 pF)² = (16e-12)² = 2.56e-22 F²
     #   gm_crit = 4 · 80 Ω · 1.01065e16 · 2.56e-22 = 8.279e-4 A/V = 0.8279 mA/V
@@ -138,7 +138,7 @@ def test_critical_transconductance_and_gain_margin_worked_check() -> None:
 @pytest.mark.parametrize(
     ("esr", "frequency", "shunt", "load", "expected"),
     [
-        # Source: reference sheet §7.3 check values [D], expected in A/V.
+        # gm_crit = 4·ESR·(2πF)²·(C0 + CL)² (application note AN2867) worked by hand, in A/V.
         (60, 8 * MHZ, 3, 10, 0.1025e-3),
         (50, 25 * MHZ, 3, 10, 0.8340e-3),
         (70_000, 32_768, "1.3", "12.5", 2.260e-6),
@@ -170,7 +170,7 @@ def test_drive_level_check_values(
 
 @pytest.fixture
 def sixteen_mhz_crystal() -> PierceCrystal:
-    """A 16 MHz crystal specified at 9 pF, with C0 7 pF and ESR 80 Ω (reference sheet §7.3)."""
+    """A 16 MHz crystal specified at 9 pF, C0 7 pF, ESR 80 Ω: the design notebook's case."""
     return PierceCrystal(
         frequency=Fraction(16 * MHZ),
         load=pf(9),
@@ -182,7 +182,8 @@ def sixteen_mhz_crystal() -> PierceCrystal:
 
 
 def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCrystal) -> None:
-    # Source: reference sheet §7.3; 9 pF with 3 pF stray needs 12 pF capacitors, an E12 value,
+    # Source: the design notebook's AN2867 case above; 9 pF with 3 pF stray needs 12 pF
+    # capacitors, an E12 value,
     # so the built load is the specified one and the 20.53 margin carries over.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(17, 1000), swing=Fraction(1))
     analysis = analyse_pierce(sixteen_mhz_crystal, board)
@@ -198,8 +199,8 @@ def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCryst
 
 
 def test_analysis_flags_a_weak_amplifier(sixteen_mhz_crystal: PierceCrystal) -> None:
-    # gm 3 mA/V against gm_crit 0.8279 mA/V is a margin of 3.6, below the rule-of-thumb 5
-    # (common practice, no source).
+    # gm 3 mA/V against gm_crit 0.8279 mA/V is a margin of 3.6, below the 5 that the
+    # oscillator design guide (application note AN2867) asks for.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(3, 1000))
     analysis = analyse_pierce(sixteen_mhz_crystal, board)
     assert analysis.gain_margin is not None and analysis.gain_margin < MIN_GAIN_MARGIN

@@ -17,10 +17,22 @@ PICO = Fraction(1, 10**12)
 
 
 def test_tuning_fork_parabola_at_45_degrees():
-    # Source: a tuning-fork crystal datasheet's worked example (facts sheet §6.2 [S]):
-    # k = −0.030 ppm/°C², T0 = 25 °C, at 45 °C: −0.030 × 20² = −12 ppm.
+    # Source: a tuning-fork crystal datasheet's worked example: k = −0.030 ppm/°C²,
+    # T0 = 25 °C, at 45 °C: −0.030 × 20² = −12.0 ppm.
     curve = ParabolicCurve(Fraction(-30, 1000), Fraction(25))
     assert curve.offset(Fraction(45)) == -12 * PPM
+
+
+def test_the_default_tuning_fork_curve_lies_in_the_published_spread():
+    # Source: tuning-fork crystal datasheets: k = −0.030 ± 0.01 ppm/°C² with the turnover at
+    # 25 ± 5 °C (one datasheet), −0.035 and −0.04 for other cuts. The default −0.034 is a
+    # typical figure (from memory) inside that spread.
+    curve = ParabolicCurve()
+    assert Fraction(-40, 1000) <= curve.coefficient_ppm <= Fraction(-20, 1000)
+    assert 20 <= curve.turnover_c <= 30
+    # Over the default −20..70 °C the far end is 45 °C from the turnover: 0.034 × 45² ppm.
+    low, high = curve.extremes(Fraction(-20), Fraction(70))
+    assert (low, high) == (Fraction(-6885, 100) * PPM, Fraction(0))
 
 
 def test_tuning_fork_over_25_plus_minus_30_degrees():
