@@ -40,7 +40,7 @@ def pf(value: float | int | str) -> Fraction:
 
 
 def test_equal_pair_for_12_pf_load_with_3_pf_stray_is_two_18_pf_capacitors() -> None:
-    # Source: reference sheet §7.1, C1 = C2 = 2·(CL − C_stray) (crystal makers' load notes):
+    # Source: crystal makers' load-capacitance notes, C1 = C2 = 2·(CL − C_stray); by hand:
     # 2·(12 − 3) = 18 pF, and back: 18·18/(18 + 18) + 3 = 9 + 3 = 12 pF.
     assert equal_capacitor(pf(12), pf(3)) == pf(18)
     assert load_capacitance(pf(18), pf(18), pf(3)) == pf(12)
@@ -49,9 +49,11 @@ def test_equal_pair_for_12_pf_load_with_3_pf_stray_is_two_18_pf_capacitors() -> 
 @pytest.mark.parametrize(
     ("first", "second", "stray", "load"),
     [
-        (18, 18, 3, 12),  # Source: reference sheet §7.1 check values [D]
-        (19, 19, 3, "12.5"),  # Source: reference sheet §7.1 check values [D]
-        (12, 12, 4, 10),  # Source: reference sheet §7.1 check values [D]
+        # Source: crystal makers' load-capacitance notes, CL = C1·C2/(C1 + C2) + C_stray;
+        # the values by hand.
+        (18, 18, 3, 12),  # 9 + 3
+        (19, 19, 3, "12.5"),  # 9.5 + 3
+        (12, 12, 4, 10),  # 6 + 4
         (10, 40, 2, 10),  # arithmetic: 400/50 + 2
     ],
 )
@@ -106,17 +108,19 @@ def test_unequal_pair_comes_closer_than_the_equal_one() -> None:
 
 
 def test_pulling_worked_check() -> None:
-    # Source: reference sheet §7.2 worked check (Cm 5 fF, C0 2 pF) [D]:
+    # Source: crystal makers' pulling formula Δf/f = (Cm/2)·(1/(C0 + CL_b) − 1/(C0 + CL_a));
+    # by hand with Cm 5 fF, C0 2 pF:
     # Δf/f = (5 fF/2)·(1/14 pF − 1/12 pF) = 2.5e-3·(−2/168) = −1/33600 = −29.76 ppm.
     shift = pulling(5 * FF, pf(2), pf(10), pf(12))
     assert shift == Fraction(-1, 33600)
     assert round(float(shift) * 1e6, 2) == -29.76
-    # Same sheet: CL 10 → 8 pF gives +41.67 ppm.
+    # By hand: CL 10 → 8 pF gives (2.5e-3)·(1/10 − 1/12) = +41.67 ppm.
     assert round(float(pulling(5 * FF, pf(2), pf(10), pf(8))) * 1e6, 2) == 41.67
 
 
 def test_pulling_sensitivity_worked_check() -> None:
-    # Source: reference sheet §7.2 worked check [D]: S = −5 fF/(2·(12 pF)²) per farad;
+    # Source: crystal makers' trim sensitivity S = −Cm/(2·(C0 + CL)²); by hand
+    # S = −5 fF/(2·(12 pF)²) per farad;
     # per picofarad that is −5e-3/288 = −1/57600 = −17.36 ppm/pF.
     per_pf = pulling_sensitivity(5 * FF, pf(2), pf(10)) * PF
     assert per_pf == Fraction(-1, 57600)
@@ -155,7 +159,8 @@ def test_critical_transconductance_check_values(
 @pytest.mark.parametrize(
     ("frequency", "esr", "node", "swing", "expected"),
     [
-        # Source: reference sheet §7.4 check values [D]; the voltage form is from memory.
+        # Source: crystal makers' technical guides, DL = I_rms²·ESR; the voltage form
+        # I_rms = π·F·C·V_pp/√2 is from memory; the values by hand.
         # 8 MHz: I_rms = π·8e6·20e-12·1/√2 = 0.3554 mA; DL = 50·(0.3554e-3)² = 6.32 µW.
         (8 * MHZ, 50, 20, "1", 6.32e-6),
         (32_768, 70_000, 15, "0.5", 20.9e-9),
@@ -236,7 +241,7 @@ def test_symmetric_astable_worked_example() -> None:
     [
         # arithmetic: 1/(2π·√(10 µH · 100 pF)) = 1/(2π·3.1623e-8 s) = 5.0329 MHz
         (Fraction(10, 10**6), pf(100), 5.0329e6),
-        # Source: reference sheet §7.5, a 16 MHz crystal's L1 = 19.79 mH with Cm = 5 fF.
+        # By hand: a 16 MHz crystal with Cm = 5 fF has L1 = 1/((2π·16 MHz)²·5 fF) = 19.79 mH.
         (Fraction(1979, 10**5), 5 * FF, 16e6),
     ],
 )

@@ -81,7 +81,8 @@ def test_standard_bauds_text_table(capsys: pytest.CaptureFixture[str]) -> None:
     ids=["catalog", "default catalog", "range"],
 )
 def test_48_khz_master_clock_crystals(capsys: pytest.CaptureFixture[str], where: list[str]) -> None:
-    # Source: reference sheet §4.2: 256 × 48 kHz = 12.288 MHz, 512 × 48 kHz = 24.576 MHz.
+    # Source: audio codec datasheets' master-clock tables: 256 × 48 kHz = 12.288 MHz,
+    # 512 × 48 kHz = 24.576 MHz.
     status, report = run_json(capsys, "--fs", "48k", "--mclk", "256", *where)
     assert status == 0
     exact = exact_frequencies(report)
@@ -94,7 +95,7 @@ def test_48_khz_master_clock_crystals(capsys: pytest.CaptureFixture[str], where:
 def test_44_1_and_48_khz_together_have_no_exact_crystal_under_30_mhz(
     capsys: pytest.CaptureFixture[str],
 ) -> None:
-    # Source: reference sheet §4.3: 44100/48000 = 147/160, so with whole divisors an exact
+    # Arithmetic: 44100/48000 = 147/160, so with whole divisors an exact
     # crystal must be a multiple of lcm(256 × 44100, 256 × 48000) = 1 806 336 000 Hz
     # (256 × 7 056 000), far above 30 MHz.
     status, report = run_json(capsys, "--fs", "44.1k,48k", "--range", "1 MHz..30 MHz")
@@ -186,7 +187,7 @@ def test_json_figures_recompute_from_the_oscillator_and_divisor(
 
 
 def test_exit_status_says_whether_the_best_fits(capsys: pytest.CaptureFixture[str]) -> None:
-    # 8 MHz at 115200 baud is +8.5 % off (reference sheet §2.6): beyond any UART's allowance.
+    # By hand: 8 MHz / (16 × 4) = 125 000 baud, +8.5 % off 115200: beyond any UART's allowance.
     assert run_cli(capsys, "crystals", "--baud", "115200", "--candidates", "8 MHz")[0] == 1
     assert run_cli(capsys, "crystals", "--baud", "115200", "--candidates", "7.3728 MHz")[0] == 0
 

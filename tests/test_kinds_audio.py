@@ -47,7 +47,7 @@ def test_studio_allowance_is_itu_r_bs_646():
 @pytest.mark.parametrize(
     ("fs", "ratio", "master"),
     [
-        # Source: codec master-clock tables (facts sheet §4.2): 256 fs and 512 fs.
+        # Source: audio codec datasheets' master-clock tables: 256 fs and 512 fs.
         (48_000, 256, 12_288_000),
         (44_100, 256, 11_289_600),
         (48_000, 512, 24_576_000),

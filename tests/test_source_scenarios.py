@@ -13,7 +13,7 @@ PPM = Fraction(1, 10**6)
 
 def test_tuning_fork_curve_from_the_scenario():
     # k = −0.04 ppm/°C², turnover 20 °C, range −10..50 °C: the far end is 30 °C away,
-    # 0.04 × 30² = 36 ppm (parabola k·(T − T0)², facts sheet §6.1).
+    # 0.04 × 30² = 36 ppm (the tuning-fork parabola k·(T − T0)² of crystal datasheets).
     scenario = scenario_from("""
         [conditions]
         temperature = "-10..50"
@@ -61,7 +61,7 @@ def test_parts_and_choose_together_are_refused():
 
 
 def test_crystal_circuit_pulling_enters_the_budget():
-    # Source: facts sheet §7.2 worked check: Cm 5 fF, C0 2 pF, specified 10 pF, built
+    # Source: crystal makers' pulling formula, by hand: Cm 5 fF, C0 2 pF, specified 10 pF, built
     # 18 pF + 18 pF with 3 pF stray = 12 pF → 29.76 ppm slow; the budget takes its size.
     scenario = scenario_from("""
         [sources.main]

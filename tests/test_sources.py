@@ -48,8 +48,10 @@ def test_one_ppm_is_86_4_ms_a_day():
 
 
 def test_worst_case_is_the_sum_and_rss_beside_it():
-    # Source: facts sheet §0.4 (common practice): ±20 ppm initial, ±30 ppm over temperature,
-    # ±3 ppm/year × 5 years → linear ±65 ppm; RSS √(20² + 30² + 15²) = 39.05 ppm.
+    # Common practice, no source (crystal makers' application notes count "frequency
+    # stability" as the 25 °C tolerance plus the temperature band): ±20 ppm initial,
+    # ±30 ppm over temperature, ±3 ppm/year × 5 years → linear ±65 ppm; RSS
+    # √(20² + 30² + 15²) = 39.05 ppm.
     source = Source("main", "crystal", (Fraction(12_000_000),), 20 * PPM, 30 * PPM, 15 * PPM)
     assert source.budget == 65 * PPM
     assert source.budget_rss == pytest.approx(39.0512e-6, rel=1e-5)
@@ -79,8 +81,8 @@ def test_lc_resonance_worked_example():
 
 
 def test_pulling_between_two_load_capacitances():
-    # Source: facts sheet §7.2 worked check (crystal makers' pulling formula): Cm = 5 fF,
-    # C0 = 2 pF, specified CL 10 pF; built with two 18 pF capacitors and 3 pF stray → 12 pF:
-    # (Cm/2)(1/(C0 + 12 pF) − 1/(C0 + 10 pF)) = −29.76 ppm.
+    # Source: crystal makers' pulling formula Δf/f = (Cm/2)(1/(C0 + CL_b) − 1/(C0 + CL_a));
+    # by hand, Cm = 5 fF, C0 = 2 pF, specified CL 10 pF, built with two 18 pF capacitors and
+    # 3 pF stray → 12 pF: (Cm/2)(1/(14 pF) − 1/(12 pF)) = −29.76 ppm.
     shift = load_pulling(10 * PICO, (18 * PICO, 18 * PICO), 3 * PICO, Fraction(5, 10**15), 2 * PICO)
     assert float(shift) * 1e6 == pytest.approx(29.76, abs=0.01)
