@@ -220,13 +220,22 @@ def test_analysis_without_optional_figures_leaves_them_unknown() -> None:
     assert analysis.drive_level is None and analysis.starts_reliably is None
 
 
-def test_rc_astable_worked_example() -> None:
-    # Source: 555-style timer astable handbook equations, high time ln2·(R1 + R2)·C and low
-    # time ln2·R2·C. R1 = 1 kΩ, R2 = 10 kΩ, C = 10 nF: period = ln2 · 21e3 · 1e-8 = 145.56 µs,
-    # f = 6869.98 Hz; the rounded handbook form 1.44/((R1 + 2R2)·C) gives 6857 Hz.
-    frequency = rc_astable_frequency(Fraction(1000), Fraction(10_000), Fraction(1, 10**8))
-    assert frequency == pytest.approx(6869.98, abs=0.01)
-    assert frequency == pytest.approx(1.44 / (21e3 * 1e-8), rel=2e-3)
+@pytest.mark.parametrize(
+    ("r1", "r2", "capacitance", "hertz", "digits"),
+    [
+        # Source: published 555 astable worked answers of an online electronics calculator:
+        # 1 kΩ, 10 kΩ, 100 nF → 686.998 Hz; 10 kΩ, 10 kΩ, 1 µF → 48.09 Hz.
+        (1000, 10_000, Fraction(1, 10**7), 686.998, 3),
+        (10_000, 10_000, Fraction(1, 10**6), 48.09, 2),
+    ],
+)
+def test_rc_astable_published_worked_examples(
+    r1: int, r2: int, capacitance: Fraction, hertz: float, digits: int
+) -> None:
+    frequency = rc_astable_frequency(Fraction(r1), Fraction(r2), capacitance)
+    assert round(frequency, digits) == hertz
+    # The rounded handbook form 1.44/((R1 + 2·R2)·C) is within 0.2 % of the exact one.
+    assert frequency == pytest.approx(1.44 / float((r1 + 2 * r2) * capacitance), rel=2e-3)
 
 
 def test_symmetric_astable_worked_example() -> None:
