@@ -469,7 +469,11 @@ class _Rate:
                 error = np.maximum(np.abs(signed) - FLOAT_SLACK, 0)
                 worst = error * (1 + np.sign(signed) * budget) + budget
                 fits = worst <= allowance * (1 + FLOAT_SLACK)
-                key = np.ceil(SHARE_STEPS * worst / allowance * (1 - FLOAT_SLACK))
+                # the key's own rounding: E = ⌊10⁹·|e|⌋ + 1, then X ≥ E·(1 ± b)
+                steps = np.floor(error * ERROR_STEPS) + 1
+                part = steps * (1 + np.sign(signed) * budget) * (1 - FLOAT_SLACK)
+                lowest = (part + budget * ERROR_STEPS * (1 - FLOAT_SLACK)) / ERROR_STEPS
+                key = np.ceil(SHARE_STEPS * lowest / allowance * (1 - FLOAT_SLACK))
                 best = np.minimum(best, np.where(fits, key, np.inf))
         return best
 

@@ -38,7 +38,7 @@ from fractions import Fraction
 import numpy as np
 
 from clockplan.interfaces.uart import per_end_allowance
-from clockplan.interfaces.usb import FULL_SPEED_CLOCK, FULL_SPEED_TOLERANCE
+from clockplan.interfaces.usb import FULL_SPEED_CLOCK, full_speed_rule
 from clockplan.quantities import (
     QuantityError,
     format_hz,
@@ -327,7 +327,7 @@ def uart_targets(
     """UART rates: baud = source / (oversampling × divisor); 8N1 allowance from uart.py."""
     scale = 2**fraction_bits
     allowance = per_end_allowance(8, False, oversampling)
-    basis = f"derived for 8N1 at {oversampling}x: half the link limit"
+    basis = f"derived for 8N1 at {oversampling}x: equal ends at opposite extremes"
     return tuple(
         RateTarget(
             label=f"{_plain_number(baud)} baud",
@@ -343,8 +343,9 @@ def uart_targets(
     )
 
 
-def usb_full_speed_target(*, divisor: Choices) -> RateTarget:
-    """USB full speed: 48 MHz within ±0.25 % (USB 2.0 §7.1.11, constants from usb.py)."""
+def usb_full_speed_target(*, divisor: Choices, full_speed_only_device: bool = False) -> RateTarget:
+    """USB full speed: 48 MHz within USB 2.0 §7.1.11's tolerance for the device (from usb.py)."""
+    allowance, basis = full_speed_rule(full_speed_only_device)
     return RateTarget(
         label="USB full speed",
         kind="usb-full-speed",
@@ -352,8 +353,8 @@ def usb_full_speed_target(*, divisor: Choices) -> RateTarget:
         clock=FULL_SPEED_CLOCK,
         counts=divisor,
         counts_per_divisor=1,
-        allowance=FULL_SPEED_TOLERANCE,
-        allowance_basis="USB 2.0 §7.1.11: full speed 12 Mb/s ±0.25 %",
+        allowance=allowance,
+        allowance_basis=basis,
     )
 
 

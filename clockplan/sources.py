@@ -42,7 +42,8 @@ _PERCENT = Fraction(1, 100)
 SOURCE_KINDS: dict[str, SourceKind] = {
     kind.name: kind
     for kind in (
-        # Typical figures, facts sheet §6.1 ranges; common practice, no source.
+        # Typical figures inside the ranges crystal and oscillator makers publish for each
+        # kind; the values themselves are common practice, no source.
         SourceKind(
             "crystal",
             "AT-cut quartz crystal with the chip's Pierce amplifier",
@@ -92,10 +93,14 @@ SOURCE_KINDS: dict[str, SourceKind] = {
 TUNING_FORK_COEFFICIENT_PPM = Fraction(-34, 1000)
 """Typical parabolic coefficient of a 32.768 kHz tuning-fork crystal, ppm/°C².
 
-From memory (reference sheet §6.1, §6.2): −0.030 … −0.040 is seen in datasheets.
+−0.034 is a typical figure (from memory). The published spread: a tuning-fork crystal
+datasheet gives −0.030 ± 0.01 ppm/°C² with its turnover at 25 ± 5 °C, and works the
+example −0.030 × (45 − 25)² = −12.0 ppm at 45 °C; other cuts and small packages are
+specified at −0.035 and −0.04 ppm/°C² (tuning-fork datasheets and crystal makers' notes).
+Give the part's own figure with ``temperature_coefficient`` and ``turnover``.
 """
 TUNING_FORK_TURNOVER_C = Fraction(25)
-"""Typical turnover temperature of a tuning-fork crystal, °C (reference sheet §6.1)."""
+"""Typical turnover temperature of a tuning-fork crystal, °C (datasheets: 25 ± 5 °C)."""
 
 
 @dataclass(frozen=True)

@@ -40,7 +40,7 @@ def pf(value: float | int | str) -> Fraction:
 
 
 def test_equal_pair_for_12_pf_load_with_3_pf_stray_is_two_18_pf_capacitors() -> None:
-    # Source: reference sheet §7.1, C1 = C2 = 2·(CL − C_stray) (crystal makers' load notes):
+    # Source: crystal makers' load-capacitance notes, C1 = C2 = 2·(CL − C_stray); by hand:
     # 2·(12 − 3) = 18 pF, and back: 18·18/(18 + 18) + 3 = 9 + 3 = 12 pF.
     assert equal_capacitor(pf(12), pf(3)) == pf(18)
     assert load_capacitance(pf(18), pf(18), pf(3)) == pf(12)
@@ -49,9 +49,11 @@ def test_equal_pair_for_12_pf_load_with_3_pf_stray_is_two_18_pf_capacitors() -> 
 @pytest.mark.parametrize(
     ("first", "second", "stray", "load"),
     [
-        (18, 18, 3, 12),  # Source: reference sheet §7.1 check values [D]
-        (19, 19, 3, "12.5"),  # Source: reference sheet §7.1 check values [D]
-        (12, 12, 4, 10),  # Source: reference sheet §7.1 check values [D]
+        # Source: crystal makers' load-capacitance notes, CL = C1·C2/(C1 + C2) + C_stray;
+        # the values by hand.
+        (18, 18, 3, 12),  # 9 + 3
+        (19, 19, 3, "12.5"),  # 9.5 + 3
+        (12, 12, 4, 10),  # 6 + 4
         (10, 40, 2, 10),  # arithmetic: 400/50 + 2
     ],
 )
@@ -106,17 +108,19 @@ def test_unequal_pair_comes_closer_than_the_equal_one() -> None:
 
 
 def test_pulling_worked_check() -> None:
-    # Source: reference sheet §7.2 worked check (Cm 5 fF, C0 2 pF) [D]:
+    # Source: crystal makers' pulling formula Δf/f = (Cm/2)·(1/(C0 + CL_b) − 1/(C0 + CL_a));
+    # by hand with Cm 5 fF, C0 2 pF:
     # Δf/f = (5 fF/2)·(1/14 pF − 1/12 pF) = 2.5e-3·(−2/168) = −1/33600 = −29.76 ppm.
     shift = pulling(5 * FF, pf(2), pf(10), pf(12))
     assert shift == Fraction(-1, 33600)
     assert round(float(shift) * 1e6, 2) == -29.76
-    # Same sheet: CL 10 → 8 pF gives +41.67 ppm.
+    # By hand: CL 10 → 8 pF gives (2.5e-3)·(1/10 − 1/12) = +41.67 ppm.
     assert round(float(pulling(5 * FF, pf(2), pf(10), pf(8))) * 1e6, 2) == 41.67
 
 
 def test_pulling_sensitivity_worked_check() -> None:
-    # Source: reference sheet §7.2 worked check [D]: S = −5 fF/(2·(12 pF)²) per farad;
+    # Source: crystal makers' trim sensitivity S = −Cm/(2·(C0 + CL)²); by hand
+    # S = −5 fF/(2·(12 pF)²) per farad;
     # per picofarad that is −5e-3/288 = −1/57600 = −17.36 ppm/pF.
     per_pf = pulling_sensitivity(5 * FF, pf(2), pf(10)) * PF
     assert per_pf == Fraction(-1, 57600)
@@ -124,8 +128,8 @@ def test_pulling_sensitivity_worked_check() -> None:
 
 
 def test_critical_transconductance_and_gain_margin_worked_check() -> None:
-    # Source: reference sheet §7.3 (oscillator design guide formula; same numbers in a
-    # public design notebook). Step by step:
+    # Source: the oscillator design guide, application note AN2867 (gm_crit formula and the
+    # gain margin); a public design notebook works this very case. Step by step:
     #   2πF = 2π · 16 MHz = 1.00531e8 rad/s, squared 1.01065e16
     #   (C0 + CL)² = (7 pF + 9 pF)² = (16e-12)² = 2.56e-22 F²
     #   gm_crit = 4 · 80 Ω · 1.01065e16 · 2.56e-22 = 8.279e-4 A/V = 0.8279 mA/V
@@ -138,7 +142,7 @@ def test_critical_transconductance_and_gain_margin_worked_check() -> None:
 @pytest.mark.parametrize(
     ("esr", "frequency", "shunt", "load", "expected"),
     [
-        # Source: reference sheet §7.3 check values [D], expected in A/V.
+        # gm_crit = 4·ESR·(2πF)²·(C0 + CL)² (application note AN2867) worked by hand, in A/V.
         (60, 8 * MHZ, 3, 10, 0.1025e-3),
         (50, 25 * MHZ, 3, 10, 0.8340e-3),
         (70_000, 32_768, "1.3", "12.5", 2.260e-6),
@@ -155,7 +159,8 @@ def test_critical_transconductance_check_values(
 @pytest.mark.parametrize(
     ("frequency", "esr", "node", "swing", "expected"),
     [
-        # Source: reference sheet §7.4 check values [D]; the voltage form is from memory.
+        # Source: crystal makers' technical guides, DL = I_rms²·ESR; the voltage form
+        # I_rms = π·F·C·V_pp/√2 is from memory; the values by hand.
         # 8 MHz: I_rms = π·8e6·20e-12·1/√2 = 0.3554 mA; DL = 50·(0.3554e-3)² = 6.32 µW.
         (8 * MHZ, 50, 20, "1", 6.32e-6),
         (32_768, 70_000, 15, "0.5", 20.9e-9),
@@ -170,7 +175,7 @@ def test_drive_level_check_values(
 
 @pytest.fixture
 def sixteen_mhz_crystal() -> PierceCrystal:
-    """A 16 MHz crystal specified at 9 pF, with C0 7 pF and ESR 80 Ω (reference sheet §7.3)."""
+    """A 16 MHz crystal specified at 9 pF, C0 7 pF, ESR 80 Ω: the design notebook's case."""
     return PierceCrystal(
         frequency=Fraction(16 * MHZ),
         load=pf(9),
@@ -182,7 +187,8 @@ def sixteen_mhz_crystal() -> PierceCrystal:
 
 
 def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCrystal) -> None:
-    # Source: reference sheet §7.3; 9 pF with 3 pF stray needs 12 pF capacitors, an E12 value,
+    # Source: the design notebook's AN2867 case above; 9 pF with 3 pF stray needs 12 pF
+    # capacitors, an E12 value,
     # so the built load is the specified one and the 20.53 margin carries over.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(17, 1000), swing=Fraction(1))
     analysis = analyse_pierce(sixteen_mhz_crystal, board)
@@ -198,8 +204,8 @@ def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCryst
 
 
 def test_analysis_flags_a_weak_amplifier(sixteen_mhz_crystal: PierceCrystal) -> None:
-    # gm 3 mA/V against gm_crit 0.8279 mA/V is a margin of 3.6, below the rule-of-thumb 5
-    # (common practice, no source).
+    # gm 3 mA/V against gm_crit 0.8279 mA/V is a margin of 3.6, below the 5 that the
+    # oscillator design guide (application note AN2867) asks for.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(3, 1000))
     analysis = analyse_pierce(sixteen_mhz_crystal, board)
     assert analysis.gain_margin is not None and analysis.gain_margin < MIN_GAIN_MARGIN
@@ -214,13 +220,22 @@ def test_analysis_without_optional_figures_leaves_them_unknown() -> None:
     assert analysis.drive_level is None and analysis.starts_reliably is None
 
 
-def test_rc_astable_worked_example() -> None:
-    # Source: 555-style timer astable handbook equations, high time ln2·(R1 + R2)·C and low
-    # time ln2·R2·C. R1 = 1 kΩ, R2 = 10 kΩ, C = 10 nF: period = ln2 · 21e3 · 1e-8 = 145.56 µs,
-    # f = 6869.98 Hz; the rounded handbook form 1.44/((R1 + 2R2)·C) gives 6857 Hz.
-    frequency = rc_astable_frequency(Fraction(1000), Fraction(10_000), Fraction(1, 10**8))
-    assert frequency == pytest.approx(6869.98, abs=0.01)
-    assert frequency == pytest.approx(1.44 / (21e3 * 1e-8), rel=2e-3)
+@pytest.mark.parametrize(
+    ("r1", "r2", "capacitance", "hertz", "digits"),
+    [
+        # Source: published 555 astable worked answers of an online electronics calculator:
+        # 1 kΩ, 10 kΩ, 100 nF → 686.998 Hz; 10 kΩ, 10 kΩ, 1 µF → 48.09 Hz.
+        (1000, 10_000, Fraction(1, 10**7), 686.998, 3),
+        (10_000, 10_000, Fraction(1, 10**6), 48.09, 2),
+    ],
+)
+def test_rc_astable_published_worked_examples(
+    r1: int, r2: int, capacitance: Fraction, hertz: float, digits: int
+) -> None:
+    frequency = rc_astable_frequency(Fraction(r1), Fraction(r2), capacitance)
+    assert round(frequency, digits) == hertz
+    # The rounded handbook form 1.44/((R1 + 2·R2)·C) is within 0.2 % of the exact one.
+    assert frequency == pytest.approx(1.44 / float((r1 + 2 * r2) * capacitance), rel=2e-3)
 
 
 def test_symmetric_astable_worked_example() -> None:
@@ -235,7 +250,7 @@ def test_symmetric_astable_worked_example() -> None:
     [
         # arithmetic: 1/(2π·√(10 µH · 100 pF)) = 1/(2π·3.1623e-8 s) = 5.0329 MHz
         (Fraction(10, 10**6), pf(100), 5.0329e6),
-        # Source: reference sheet §7.5, a 16 MHz crystal's L1 = 19.79 mH with Cm = 5 fF.
+        # By hand: a 16 MHz crystal with Cm = 5 fF has L1 = 1/((2π·16 MHz)²·5 fF) = 19.79 mH.
         (Fraction(1979, 10**5), 5 * FF, 16e6),
     ],
 )

@@ -81,7 +81,8 @@ def test_standard_bauds_text_table(capsys: pytest.CaptureFixture[str]) -> None:
     ids=["catalog", "default catalog", "range"],
 )
 def test_48_khz_master_clock_crystals(capsys: pytest.CaptureFixture[str], where: list[str]) -> None:
-    # Source: reference sheet §4.2: 256 × 48 kHz = 12.288 MHz, 512 × 48 kHz = 24.576 MHz.
+    # Source: audio codec datasheets' master-clock tables: 256 × 48 kHz = 12.288 MHz,
+    # 512 × 48 kHz = 24.576 MHz.
     status, report = run_json(capsys, "--fs", "48k", "--mclk", "256", *where)
     assert status == 0
     exact = exact_frequencies(report)
@@ -94,7 +95,7 @@ def test_48_khz_master_clock_crystals(capsys: pytest.CaptureFixture[str], where:
 def test_44_1_and_48_khz_together_have_no_exact_crystal_under_30_mhz(
     capsys: pytest.CaptureFixture[str],
 ) -> None:
-    # Source: reference sheet §4.3: 44100/48000 = 147/160, so with whole divisors an exact
+    # Arithmetic: 44100/48000 = 147/160, so with whole divisors an exact
     # crystal must be a multiple of lcm(256 × 44100, 256 × 48000) = 1 806 336 000 Hz
     # (256 × 7 056 000), far above 30 MHz.
     status, report = run_json(capsys, "--fs", "44.1k,48k", "--range", "1 MHz..30 MHz")
@@ -136,12 +137,19 @@ def test_usb_from_12_mhz_through_a_pll(capsys: pytest.CaptureFixture[str]) -> No
 
 
 def test_usb_without_a_pll_needs_a_multiple_of_48_mhz(capsys: pytest.CaptureFixture[str]) -> None:
-    # USB 2.0 §7.1.11 allows ±0.25 %; 12 MHz divided can only go down, so it misses by 75 %.
+    # Source: USB 2.0 §7.1.11: ±0.05 % unless the device is full-speed only (then ±0.25 %).
+    # 12 MHz divided can only go down, so it misses by 75 %.
     status, report = run_json(capsys, "--usb-full-speed", "--candidates", "12M,48M,25M")
     assert status == 0
     assert [row["frequency_hz"] for row in report["ranked"]] == ["48000000", "25000000", "12000000"]
     assert report["ranked"][2]["rates"][0]["error"] == "-3/4"
-    assert report["rates"][0]["allowance_ppm"] == pytest.approx(2500)
+    assert report["rates"][0]["allowance"] == "1/2000"
+    assert "high-speed-capable device" in report["rates"][0]["allowance_basis"]
+    status, report = run_json(
+        capsys, "--usb-full-speed", "--full-speed-only-device", "--candidates", "48M"
+    )
+    assert status == 0 and report["rates"][0]["allowance"] == "1/400"
+    assert "full-speed-only device" in report["rates"][0]["allowance_basis"]
 
 
 def test_json_figures_recompute_from_the_oscillator_and_divisor(
@@ -173,13 +181,13 @@ def test_json_figures_recompute_from_the_oscillator_and_divisor(
             assert Fraction(rate["achieved_hz"]) == achieved
             assert Fraction(rate["error"]) == achieved / wanted[rate["label"]] - 1
     assert report["rates"][1]["allowance"] == "1/200"
-    # 12.288 MHz: fs and 1 kHz exact, 115200 baud at 107/16 is −0.31 % (inside ±2.29 %).
+    # 12.288 MHz: fs and 1 kHz exact, 115200 baud at 107/16 is −0.31 % (inside ±2.24 %).
     assert status == 0 and report["ranked"][0]["frequency_hz"] == "12288000"
     assert report["ranked"][0]["rates"][0]["divisor"] == "107/16"
 
 
 def test_exit_status_says_whether_the_best_fits(capsys: pytest.CaptureFixture[str]) -> None:
-    # 8 MHz at 115200 baud is +8.5 % off (reference sheet §2.6): beyond any UART's allowance.
+    # By hand: 8 MHz / (16 × 4) = 125 000 baud, +8.5 % off 115200: beyond any UART's allowance.
     assert run_cli(capsys, "crystals", "--baud", "115200", "--candidates", "8 MHz")[0] == 1
     assert run_cli(capsys, "crystals", "--baud", "115200", "--candidates", "7.3728 MHz")[0] == 0
 
@@ -190,7 +198,8 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
         build_parser().parse_args(["crystals", "--help"])
     out = capsys.readouterr().out
     assert stop.value.code == 0
-    assert "±0.25 % (USB 2.0 §7.1.11)" in out and "default 0.1 %" in out
+    assert "±0.05 % (USB 2.0 §7.1.11" in out and "±0.25 % applies" in out
+    assert "default 0.1 %" in out
     for option in ("--baud", "--fs", "--mclk", "--rate", "--pll", "--range", "--step", "--json"):
         assert option in out
 
@@ -213,6 +222,7 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
         (["--baud", "9600", "--divisor", "0..10"], "--divisor: 0 is below"),
         (["--baud", "9600", "--pll", "--vco", "96 MHz"], "--vco: '96 MHz' is not a range"),
         (["--baud", "9600", "--top", "0"], "--top: '0' is not a whole number from 1"),
+        (["--baud", "9600", "--full-speed-only-device"], "--full-speed-only-device: says"),
     ],
 )
 def test_bad_input_is_one_line_and_exit_2(

@@ -24,7 +24,8 @@ def run_cli(capsys: pytest.CaptureFixture[str], *argv: str) -> tuple[int, str, s
 
 
 def test_pierce_report_for_a_16_mhz_crystal(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §7.1: 12 pF load, 3 pF stray → two 18 pF capacitors.
+    # Source: crystal makers' load-capacitance notes, C1 = C2 = 2·(CL − C_stray): 12 pF load,
+    # 3 pF stray → two 18 pF capacitors.
     status, out, err = run_cli(
         capsys, *SIXTEEN_MHZ, "--shunt", "5 pF", "--motional", "7 fF", "--esr", "40 ohm",
         "--gm", "10 mA/V", "--swing", "1 V", "--max-drive", "100 uW",
@@ -50,8 +51,9 @@ def test_pierce_default_stray_is_marked_as_an_assumption(
 
 
 def test_pierce_warns_when_the_gain_margin_is_too_low(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §7.3: ESR 80 Ω, 16 MHz, C0 7 pF, CL 9 pF → gm_crit 0.8279 mA/V;
-    # 3 mA/V is a margin of 3.6, below the rule-of-thumb 5 (common practice).
+    # Source: the oscillator design guide (application note AN2867), worked in a public
+    # design notebook: ESR 80 Ω, 16 MHz, C0 7 pF, CL 9 pF → gm_crit 0.8279 mA/V; 3 mA/V is a
+    # margin of 3.6, below the guide's 5.
     status, out, _ = run_cli(
         capsys, "pierce", "--frequency", "16 MHz", "--load", "9 pF", "--shunt", "7 pF",
         "--esr", "80 ohm", "--gm", "3 mA/V",
@@ -61,7 +63,7 @@ def test_pierce_warns_when_the_gain_margin_is_too_low(capsys: pytest.CaptureFixt
 
 
 def test_pierce_json_reproduces_the_worked_gain_margin(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §7.3 worked check: gm 17 mA/V over gm_crit 0.8279 mA/V = 20.53.
+    # Source: the design notebook's AN2867 case: gm 17 mA/V over gm_crit 0.8279 mA/V = 20.53.
     # 9 pF with 3 pF stray takes two 12 pF capacitors (an E12 value), so the load is exact.
     status, out, _ = run_cli(
         capsys, "pierce", "--frequency", "16 MHz", "--load", "9 pF", "--shunt", "7 pF",
@@ -85,7 +87,8 @@ def test_pierce_unequal_pair_in_json(capsys: pytest.CaptureFixture[str]) -> None
 
 
 def test_pierce_flags_excess_drive_level(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §7.4 check: 8 MHz, ESR 50 Ω, 20 pF, 1 Vpp → 6.32 µW > 5 µW.
+    # By hand from DL = I_rms²·ESR (crystal makers' guides), I_rms = π·F·C·V_pp/√2 (from
+    # memory): 8 MHz, ESR 50 Ω, 20 pF, 1 Vpp → 6.32 µW > 5 µW.
     status, out, _ = run_cli(
         capsys, "pierce", "--frequency", "8 MHz", "--load", "12 pF", "--shunt", "3 pF",
         "--esr", "50 ohm", "--swing", "1 V", "--node-capacitance", "20 pF",
@@ -98,7 +101,7 @@ def test_pierce_flags_excess_drive_level(capsys: pytest.CaptureFixture[str]) -> 
 
 
 def test_tick_watch_crystal_is_exact(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §6.3: 32 768 = 2**15.
+    # Arithmetic: 32 768 = 2**15, the reason watch crystals run at 32.768 kHz.
     status, out, err = run_cli(capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15")
     assert (status, err) == (0, "")
     assert "exact (1 setting)" in out and "32768" in out
@@ -134,7 +137,7 @@ def test_tick_without_chain_suggests_an_exact_one(capsys: pytest.CaptureFixture[
 
 
 def test_tick_drift_for_20_ppm(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §6.4: 20 ppm → 1.728 s/day. 50 000 Hz ÷ 49 999 is 1/49 999 fast,
+    # Arithmetic: 20 ppm × 86 400 s = 1.728 s/day. 50 000 Hz ÷ 49 999 is 1/49 999 fast,
     # about 20.0004 ppm.
     _, out, _ = run_cli(capsys, "tick", "--source", "50 kHz", "--chain", "49999", "--json")
     report = json.loads(out)
@@ -143,7 +146,8 @@ def test_tick_drift_for_20_ppm(capsys: pytest.CaptureFixture[str]) -> None:
 
 
 def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §9: 32 s of 32 768 Hz = 2**20 cycles, step 0.95367431640625 ppm.
+    # Source: a microcontroller reference manual's RTC calibration (a 2**20-cycle, 32 s window,
+    # step about 0.954 ppm); by hand 32 s × 32 768 Hz = 2**20, step 0.95367431640625 ppm.
     _, out, _ = run_cli(
         capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--calibrate",
         "+12.3 ppm", "--window", "32 s", "--max-steps", "511", "--json",
@@ -155,7 +159,7 @@ def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) 
 
 
 def test_tick_tuning_fork_at_45_c(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: reference sheet §6.2 datasheet worked example: k = −0.030 at 45 °C → −12.00 ppm.
+    # Source: a tuning-fork crystal datasheet's worked example: k = −0.030 at 45 °C → −12.0 ppm.
     _, out, _ = run_cli(
         capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--curve",
         "tuning-fork", "--coefficient=-0.030", "--temperature", "45..45", "--json",
@@ -218,7 +222,7 @@ def test_bad_input_exits_2_with_one_line(
 
 
 def test_subprocess_tick_watch_crystal() -> None:
-    # Source: reference sheet §6.3: 32 768 = 2**15.
+    # Arithmetic: 32 768 = 2**15, the reason watch crystals run at 32.768 kHz.
     result = subprocess.run(
         [sys.executable, "-m", "clockplan", "tick", "--source", "32.768 kHz", "--chain",
          "pow2 15", "--json"],

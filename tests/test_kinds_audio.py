@@ -32,9 +32,24 @@ def test_a_rate_outside_both_families():
     assert family(Fraction(44_100_000, 1001)) == "other"  # the NTSC-related 44.056 kHz
 
 
-def test_the_two_families_are_147_to_160():
-    # Source: facts sheet §4.3, arithmetic: 44 100 / 48 000 = 147/160.
-    assert Fraction(AES5_44K[0], AES5_48K[1]) == Fraction(147, 160)
+def test_a_48_khz_crystal_misses_44_1_khz_by_the_family_ratio():
+    # Arithmetic: 44 100 / 48 000 = 147/160 (gcd 300). A 12.288 MHz crystal (256 × 48 kHz)
+    # with whole master dividers gives 48 kHz exactly, and its nearest 44.1 kHz is 48 kHz
+    # itself (÷1; ÷2 gives 24 kHz): 160/147 − 1 = +8.84 %.
+    scenario = scenario_from("""
+        [sources.main]
+        kind = "crystal"
+        choose = ["12.288 MHz"]
+        [peripherals.codec]
+        kind = "audio"
+        from = "main"
+        sample_rates = ["48 kHz", "44.1 kHz"]
+        divide = "1..4"
+        allowance = "10 %"
+    """)
+    checks = search(scenario, top=1).plans[0].evaluation.checks
+    assert [check.achieved for check in checks] == [48_000, 48_000]
+    assert [check.error for check in checks] == [0, Fraction(160, 147) - 1]
 
 
 def test_studio_allowance_is_itu_r_bs_646():
@@ -47,7 +62,7 @@ def test_studio_allowance_is_itu_r_bs_646():
 @pytest.mark.parametrize(
     ("fs", "ratio", "master"),
     [
-        # Source: codec master-clock tables (facts sheet §4.2): 256 fs and 512 fs.
+        # Source: audio codec datasheets' master-clock tables: 256 fs and 512 fs.
         (48_000, 256, 12_288_000),
         (44_100, 256, 11_289_600),
         (48_000, 512, 24_576_000),

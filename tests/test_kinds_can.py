@@ -23,11 +23,12 @@ from clockplan.solve import Status, search
 from tests.conftest import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
-# Source: CAN Specification 2.0 Part B §9 "Oscillator Tolerance" and ISO 11898-1, conditions
+# Source: F. Hartwich, A. Bassemir, "The Configuration of the CAN Bit Timing", 6th
+# International CAN Conference (1999), and ISO 11898-1, conditions
 #   I  df ≤ min(PHASE1, PHASE2) / (2 · (13 · NBT − PHASE2))
 #   II df ≤ SJW / (20 · NBT)
-# (restated in F. Hartwich, A. Bassemir, "The Configuration of the CAN Bit Timing", 1999, and
-# in microcontroller reference manuals). Worked rows: facts sheet §3.2, by hand.
+# (restated in microcontroller CAN reference manuals). Worked rows: by hand from I and II;
+# the first is the paper's most tolerant timing, 1.58 %.
 WORKED = [
     # (prop, phase1, phase2, sjw, nbt, condition I, condition II, df)
     (1, 4, 4, 4, 10, Fraction(4, 252), Fraction(4, 200), Fraction(4, 252)),
@@ -51,9 +52,10 @@ def test_oscillator_tolerance_conditions_match_the_worked_table(
 
 
 def test_the_specifications_quoted_tolerance_is_1_58_percent():
-    # Source: CAN Specification 2.0 Part B §9: "A maximum oscillator tolerance of 1.58 % is
-    # given", for PROP 1, PHASE1 = PHASE2 = SJW = 4 (10 tq): 4/252 = 1.5873 %, which the
-    # specification truncates to 1.58 %.
+    # Source: CAN Specification 2.0 Part B §9 "Oscillator Tolerance": "A maximum oscillator
+    # tolerance of 1.58 % is given" (with its rule of thumb: a ceramic resonator up to
+    # 125 kbit/s). By conditions I and II the timing PROP 1, PHASE1 = PHASE2 = SJW = 4 (10 tq)
+    # gives 4/252 = 1.5873 %, which the specification truncates to 1.58 %.
     df = nominal_tolerance(BitTiming(10, 1, 4, 4, 4))
     assert df == Fraction(1, 63)
     assert math.floor(df * 10_000) / 100 == 1.58
@@ -62,7 +64,8 @@ def test_the_specifications_quoted_tolerance_is_1_58_percent():
 @pytest.mark.parametrize(
     ("bitrate", "point"),
     [
-        # Source: CiA DS-102 v2.0 bit-timing table (facts sheet §3.3).
+        # Source: CiA Draft Standard 102 v2.0, its bit-timing table (as reproduced in a
+        # fieldbus maker's knowledge base).
         (1_000_000, Fraction(75, 100)),
         (800_000, Fraction(80, 100)),
         (500_000, Fraction(875, 1000)),
@@ -80,7 +83,7 @@ def test_default_sample_point_follows_cia_ds_102(bitrate, point):
 @pytest.mark.parametrize(
     ("quanta", "point", "df"),
     [
-        # Source: CiA DS-102 v2.0 rows with SJW 1, PHASE2 2 (facts §3.3), tolerances from §3.2:
+        # Source: CiA DS-102 v2.0 rows with SJW 1, PHASE2 2 (table above); tolerances by I, II:
         # 1 Mbit/s 8 tq at 75 % → 0.625 %; 800 kbit/s 10 tq at 80 % → 0.5 %;
         # 500 kbit/s 16 tq at 87.5 % → 0.3125 %.
         (8, Fraction(3, 4), Fraction(1, 160)),
@@ -129,8 +132,8 @@ def test_each_option_divides_by_prescaler_times_quanta():
 
 
 def test_data_phase_condition_is_sjw_over_twenty_bit_times():
-    # ISO 11898-1:2015 data-phase condition df ≤ SJW_D / (20 · DBT) (from memory; the facts
-    # sheet §3.4 marks it [M]): 10 tq with SJW 3 → 3/200 = 1.5 %.
+    # ISO 11898-1:2015 data-phase condition df ≤ SJW_D / (20 · DBT) (from memory, the
+    # analogue of condition II): 10 tq with SJW 3 → 3/200 = 1.5 %.
     assert data_tolerance(BitTiming(10, 0, 6, 3, 3)) == Fraction(3, 200)
 
 
@@ -148,8 +151,8 @@ sjw = 1
 
 
 def test_16_mhz_at_500_kbits_uses_an_exact_timing():
-    # Source: facts sheet §3.1 check: 16 MHz, 500 kbit/s → 16 tq with prescaler 2 (or 8 tq with
-    # prescaler 4, whose 75 % sample point is outside the 87.5 % ± 2.5 window).
+    # By hand: 16 MHz / 500 kbit/s = 32 = 16 tq × prescaler 2 (or 8 tq × prescaler 4, whose
+    # 75 % sample point is outside the 87.5 % ± 2.5 window of CiA DS-102).
     text = CLASSICAL.format(crystals='"16 MHz"', bitrate=500000, prescaler="1..64")
     scenario = scenario_from(text)
     best = search(scenario, top=1).plans[0]
@@ -187,8 +190,8 @@ data_prescaler = "1..2"
 
 
 def test_can_fd_nominal_and_data_phases_end_to_end():
-    # Source: facts sheet §3.4 check: 40 MHz at 2 Mbit/s → 20 tq with prescaler 1 or 10 tq
-    # with prescaler 2; every crystal here gives both phases exactly.
+    # By hand: 40 MHz / 2 Mbit/s = 20 = 20 tq × prescaler 1 or 10 tq × prescaler 2; every
+    # crystal here gives both phases exactly.
     scenario = scenario_from(FD)
     result = search(scenario, top=3)
     assert result.status is Status.OPTIMAL
@@ -234,6 +237,7 @@ def test_bad_can_keys_are_located(extra, key, words):
 
 
 def test_data_bit_rate_below_the_nominal_is_refused():
-    # ISO 11898-1:2015 §6.3.1.1: the data bit time is as long as the nominal one or shorter.
+    # ISO 11898-1:2015 (from memory; clause not confirmed): the data bit time is as long as
+    # the nominal one or shorter.
     with pytest.raises(ScenarioError, match="data_bitrate.*below the nominal"):
         scenario_from(FD.replace('data_bitrate = "2 MHz"', 'data_bitrate = "250 kHz"'))

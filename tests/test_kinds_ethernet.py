@@ -16,13 +16,14 @@ from tests.oracle import best_key
     [
         # Source: IEEE 802.3 Clause 24/25 (100BASE-TX, 125 MBd = 5 × 25 MHz, ±50 ppm; clause
         # numbers from memory); NIC design guides state ±50 ppm "to comply with IEEE
-        # specifications for 10/100 and 10/100/1000BASE-T" (facts sheet §5).
+        # specifications for 10/100 and 10/100/1000BASE-T" (network-controller makers'
+        # design guides).
         ("ethernet-mii", 25_000_000, 50),
         # Source: RMII Consortium RMII specification rev 1.2: one 50 MHz reference for MAC and
         # PHY (seen in PHY datasheets); ±50 ppm from memory.
         ("ethernet-rmii", 50_000_000, 50),
         # Source: IEEE 802.3 Clause 35 (GMII) / Clause 40 (1000BASE-T, 125 MBd): ±100 ppm
-        # (from memory; facts sheet §5 tags it [M]).
+        # (from memory).
         ("ethernet-rgmii", 125_000_000, 100),
     ],
 )
@@ -34,8 +35,8 @@ def test_reference_rate_and_allowance(kind, rate, ppm):
 
 
 def test_100base_tx_symbol_rate_is_five_times_the_mii_reference():
-    # Source: facts sheet §5: 4B/5B at 100 Mb/s gives 125 MBd = 25 MHz × 5; ±50 ppm of
-    # 25 MHz is ±1 250 Hz.
+    # Source: IEEE 802.3 100BASE-TX (clause numbers from memory): 4B/5B at 100 Mb/s gives
+    # 125 MBd = 25 MHz × 5; by hand, ±50 ppm of 25 MHz is ±1 250 Hz.
     mii = REFERENCES["ethernet-mii"]
     assert 5 * mii.rate == 125_000_000
     assert mii.rate * mii.tolerance == 1250
@@ -67,8 +68,8 @@ from = "main"
 
 
 def test_one_25_mhz_crystal_serves_mii_and_rmii_exactly():
-    # Source: facts sheet §5: one 25 MHz crystal serves 100BASE-TX (×5) and RMII (×2) with no
-    # ratio error. The 12 MHz candidate cannot give the MII its 25 MHz at all.
+    # By hand: one 25 MHz crystal serves 100BASE-TX (×5, IEEE 802.3) and RMII (×2, RMII rev
+    # 1.2's 50 MHz) with no ratio error. The 12 MHz candidate cannot give the MII 25 MHz.
     scenario = scenario_from(BOARD)
     result = search(scenario, top=2)
     assert result.status is Status.OPTIMAL

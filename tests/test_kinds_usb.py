@@ -7,30 +7,57 @@ import pytest
 from clockplan.errors import ScenarioError
 from clockplan.evaluate import evaluate_plan
 from clockplan.interfaces.usb import (
-    FULL_SPEED_TOLERANCE,
+    FULL_SPEED_ONLY_TOLERANCE,
     HIGH_SPEED_TOLERANCE,
     LOW_SPEED_RATE,
-    LOW_SPEED_TOLERANCE,
 )
 from clockplan.solve import Status, search
 from tests.conftest import scenario_from
 from tests.oracle import best_key
 
 
-def test_low_speed_tolerance():
-    # Source: USB 2.0 Specification §7.1.11 "Data Signaling Rate" (section number from
-    # memory): low speed 1.50 Mb/s ±1.5 %, i.e. 1 477 500 … 1 522 500 b/s (facts sheet §1.1).
-    assert LOW_SPEED_TOLERANCE == Fraction(15, 1000)
-    assert LOW_SPEED_RATE * (1 - LOW_SPEED_TOLERANCE) == 1_477_500
-    assert LOW_SPEED_RATE * (1 + LOW_SPEED_TOLERANCE) == 1_522_500
+def test_low_speed_tolerances():
+    # Source: USB 2.0 Specification §7.1.11 "Data Signaling Rate": a low-speed device sends
+    # 1.50 Mb/s ±1.5 %, i.e. 1 477 500 … 1 522 500 b/s; hosts and hubs send low speed within
+    # ±0.05 %, 1 499 250 … 1 500 750 b/s.
+    def low_speed(extra: str) -> tuple[Fraction, str]:
+        scenario = scenario_from(LOW_SPEED.format(kind="ceramic", usb="usb-low-speed") + extra)
+        (requirement,) = scenario.peripherals[0].requirements
+        return requirement.allowance, requirement.allowance_basis
+
+    device, device_basis = low_speed("low_speed_device = true")
+    assert LOW_SPEED_RATE * (1 - device) == 1_477_500
+    assert LOW_SPEED_RATE * (1 + device) == 1_522_500
+    assert "low-speed device" in device_basis
+    host, host_basis = low_speed("")
+    assert LOW_SPEED_RATE * (1 - host) == 1_499_250
+    assert LOW_SPEED_RATE * (1 + host) == 1_500_750
+    assert "host or hub" in host_basis
 
 
 def test_high_speed_tolerance():
     # Source: USB 2.0 Specification §7.1.11: high speed 480.00 Mb/s ±500 ppm, i.e.
-    # 479 760 000 … 480 240 000 b/s (facts sheet §1.1).
-    assert HIGH_SPEED_TOLERANCE == Fraction(500, 10**6)
-    assert 480_000_000 * (1 - HIGH_SPEED_TOLERANCE) == 479_760_000
-    assert 480_000_000 * (1 + HIGH_SPEED_TOLERANCE) == 480_240_000
+    # 479 760 000 … 480 240 000 b/s.
+    scenario = scenario_from("""
+        [sources.main]
+        kind = "crystal"
+        choose = ["12 MHz"]
+        [peripherals.usb]
+        kind = "usb-high-speed"
+        from = "main"
+        reference = "12 MHz"
+    """)
+    (requirement,) = scenario.peripherals[0].requirements
+    assert 480_000_000 * (1 - requirement.allowance) == 479_760_000
+    assert 480_000_000 * (1 + requirement.allowance) == 480_240_000
+
+
+def test_usb_role_keys_take_true_or_false():
+    text = LOW_SPEED.format(kind="crystal", usb="usb-full-speed")
+    with pytest.raises(ScenarioError, match="keyboard.full_speed_only_device: 'yes' is not true"):
+        scenario_from(text + 'full_speed_only_device = "yes"')
+    with pytest.raises(ScenarioError, match="keyboard.low_speed_device: is not a known key"):
+        scenario_from(text + "low_speed_device = true")
 
 
 LOW_SPEED = """
@@ -43,19 +70,25 @@ from = "main"
 """
 
 
-def test_a_ceramic_resonator_serves_low_speed_but_not_full_speed():
+def test_a_ceramic_resonator_serves_a_low_speed_device_but_not_full_speed():
     # Source: USB 2.0 §7.1.11: the low-speed tolerance "allows the use of resonators in
     # low-cost low-speed devices". The ceramic resonator's default budget (0.5 % + 0.3 % +
-    # aging; README's source table) fits ±1.5 % but not full speed's ±0.25 %.
-    low = scenario_from(LOW_SPEED.format(kind="ceramic", usb="usb-low-speed"))
+    # aging; README's source table) fits ±1.5 % but not even a full-speed-only device's
+    # ±0.25 %, nor a host's ±0.05 % at low speed.
+    low = scenario_from(
+        LOW_SPEED.format(kind="ceramic", usb="usb-low-speed") + "low_speed_device = true"
+    )
     (requirement,) = low.peripherals[0].requirements
     assert requirement.target == 6_000_000  # 4 × 1.5 Mb/s
     result = search(low, top=1)
     assert result.status is Status.OPTIMAL
     assert result.plans[0].evaluation.feasible
-    assert low.source("main").budget > FULL_SPEED_TOLERANCE
+    assert low.source("main").budget > FULL_SPEED_ONLY_TOLERANCE
+    host = scenario_from(LOW_SPEED.format(kind="ceramic", usb="usb-low-speed"))
+    assert search(host, top=1).status is Status.INFEASIBLE
     full = LOW_SPEED.format(kind="ceramic", usb="usb-full-speed").replace("6 MHz", "48 MHz")
-    assert search(scenario_from(full), top=1).status is Status.INFEASIBLE
+    only = scenario_from(full + "full_speed_only_device = true")
+    assert search(only, top=1).status is Status.INFEASIBLE
 
 
 def test_high_speed_phy_reference_through_a_divider_matches_the_oracle():

@@ -29,7 +29,7 @@ WATCH_CRYSTAL = Fraction(32_768)
 
 
 def test_watch_crystal_through_15_binary_stages_is_exactly_1_hz() -> None:
-    # Source: reference sheet §6.3, 32 768 = 2**15, so 15 binary stages give exactly 1 Hz.
+    # Arithmetic: 32 768 = 2**15, so 15 binary stages give exactly 1 Hz.
     search = search_chain(WATCH_CRYSTAL, Fraction(1), parse_chain("pow2 15"))
     assert search.exact and search.exact_count == 1
     assert search.best.tick_hz == 1 and search.best.error == 0
@@ -37,12 +37,12 @@ def test_watch_crystal_through_15_binary_stages_is_exactly_1_hz() -> None:
 
 
 def test_one_ppm_is_86_4_ms_per_day() -> None:
-    # arithmetic (reference sheet §6.4): 1e-6 × 86 400 s = 0.0864 s.
+    # arithmetic: 1e-6 × 86 400 s = 0.0864 s.
     assert drift(PPM).per_day == Fraction(864, 10_000)
 
 
 def test_20_ppm_drift_per_day_month_and_year() -> None:
-    # Source: reference sheet §6.4 [D]: 20 ppm → 1.728 s/day; ×30 = 51.84 s; ×365 = 630.72 s.
+    # Arithmetic: 20 ppm × 86 400 s = 1.728 s/day; ×30 = 51.84 s; ×365 = 630.72 s.
     lapse = drift(20 * PPM)
     assert lapse.per_day == Fraction("1.728")
     assert lapse.per_month == Fraction("51.84")
@@ -57,7 +57,8 @@ def test_positive_error_gains_time() -> None:
 
 
 def test_calibration_step_of_a_2_20_cycle_window() -> None:
-    # Source: reference sheet §9: 2**20 cycles of 32 768 Hz is 32 s, and one cycle per step
+    # Source: a microcontroller reference manual's RTC calibration (32 s window, resolution
+    # about 0.954 ppm); by hand, 2**20 cycles of 32 768 Hz is 32 s, and one cycle per step
     # over that window is 1/2**20 = 0.95367431640625 ppm.
     assert Fraction(2**20) / WATCH_CRYSTAL == 32
     step = PulseCalibration(window_cycles=2**20).step
@@ -67,7 +68,7 @@ def test_calibration_step_of_a_2_20_cycle_window() -> None:
 
 @pytest.fixture
 def thirty_two_second_window() -> PulseCalibration:
-    """One cycle per step over 2**20 cycles, at most 511 steps (reference sheet §9)."""
+    """One cycle per step over 2**20 cycles, at most 511 steps (an RTC reference manual's)."""
     return PulseCalibration(window_cycles=2**20, cycles_per_step=1, max_steps=511)
 
 
@@ -94,7 +95,7 @@ def test_calibration_speeds_a_slow_clock_by_adding(
 def test_calibration_stops_at_the_step_limit(thirty_two_second_window: PulseCalibration) -> None:
     # With the window in source cycles, masking n cycles slows the count by exactly n/W:
     # 511/2**20 = 487.33 ppm is the reach (a window counted in corrected cycles, as in
-    # reference sheet §9's published −487.1 ppm, divides by 2**20 + 511 instead).
+    # the reference manual's published −487.1 ppm, divides by 2**20 + 511 instead).
     assert thirty_two_second_window.reach == Fraction(511, 2**20)
     setting = best_calibration(Fraction(600) * PPM, thirty_two_second_window)
     assert (setting.steps, setting.limited) == (511, True)
@@ -114,19 +115,20 @@ def test_impossible_calibration_windows_are_refused(window: int, cycles_per_step
 
 
 def test_tuning_fork_parabola_datasheet_example() -> None:
-    # Source: reference sheet §6.2, a tuning-fork datasheet's worked example [S]:
-    # k = −0.030 ppm/°C² at 45 °C: −0.030 × (45 − 25)² = −12.00 ppm.
+    # Source: a tuning-fork crystal datasheet's worked example (k = −0.030 ± 0.01 ppm/°C²,
+    # turnover 25 ± 5 °C): at 45 °C, −0.030 × (45 − 25)² = −12.0 ppm.
     curve = ParabolicCurve(coefficient_ppm=Fraction("-0.030"), turnover_c=Fraction(25))
     assert curve.offset(Fraction(45)) == Fraction(-12) * PPM
 
 
 @pytest.mark.parametrize(
     ("temperature", "ppm"),
-    # Source: reference sheet §6.2 check table, k = −0.034 ppm/°C² [D].
+    # By hand, k = −0.034 ppm/°C²: k·(T − 25)².
     [(-40, "-143.65"), (0, "-21.25"), (10, "-7.65"), (60, "-41.65"), (85, "-122.4")],
 )
 def test_typical_parabola_table(temperature: int, ppm: str) -> None:
-    # The default coefficient −0.034 ppm/°C² is typical, from memory (reference sheet §6.1).
+    # The default coefficient −0.034 ppm/°C² is typical, from memory; tuning-fork datasheets
+    # publish −0.030 ± 0.01, −0.035 and −0.04 ppm/°C².
     assert ParabolicCurve().offset(Fraction(temperature)) == Fraction(ppm) * PPM
 
 

@@ -86,7 +86,14 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         "--fraction-bits", metavar="N", help="fraction bits of the baud divisor (default 0)"
     )
     rates.add_argument(
-        "--usb-full-speed", action="store_true", help="48 MHz within ±0.25 %% (USB 2.0 §7.1.11)"
+        "--usb-full-speed",
+        action="store_true",
+        help="48 MHz within ±0.05 %% (USB 2.0 §7.1.11: a host, hub or high-speed-capable device)",
+    )
+    rates.add_argument(
+        "--full-speed-only-device",
+        action="store_true",
+        help="with --usb-full-speed: the device runs at full speed only, so ±0.25 %% applies",
     )
     rates.add_argument("--fs", metavar="RATES", action="append", help="audio sampling rates")
     rates.add_argument("--mclk", metavar="RATIO", help="master clock = RATIO × fs (default 256)")
@@ -220,8 +227,13 @@ def _targets(args: argparse.Namespace, divisor: Choices) -> tuple[RateTarget, ..
         targets += uart_targets(
             bauds, oversampling=oversampling, fraction_bits=bits, divisor=divisor
         )
+    if args.full_speed_only_device and not args.usb_full_speed:
+        raise InputError(
+            "--full-speed-only-device", "says what the USB device is; add --usb-full-speed"
+        )
     if args.usb_full_speed:
-        targets.append(usb_full_speed_target(divisor=divisor))
+        only = args.full_speed_only_device
+        targets.append(usb_full_speed_target(divisor=divisor, full_speed_only_device=only))
     allowance, basis = DEFAULT_ALLOWANCE, ALLOWANCE_BASIS
     if args.allowance is not None:
         allowance, basis = _parsed(args, "allowance", _positive_relative), "given with --allowance"

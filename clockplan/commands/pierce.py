@@ -14,6 +14,7 @@ from rich.table import Table
 
 from clockplan.circuits import (
     MIN_GAIN_MARGIN,
+    OSCILLATOR_GUIDE,
     PICOFARAD,
     PierceAnalysis,
     PierceBoard,
@@ -211,7 +212,7 @@ def _print_report(
         table.add_row(
             "gain margin",
             f"{analysis.gain_margin:.2f}",
-            f"at least {MIN_GAIN_MARGIN} wanted (common practice)",
+            f"at least {MIN_GAIN_MARGIN} wanted ({OSCILLATOR_GUIDE})",
         )
     if analysis.drive_level is not None and analysis.node_capacitance is not None:
         limit = (

@@ -86,12 +86,13 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         "--coefficient",
         metavar="K",
         help=f"parabola coefficient in ppm/°C² (default {float(TUNING_FORK_COEFFICIENT_PPM)}, "
-        "typical, from memory)",
+        "typical, from memory; datasheets publish -0.030 ± 0.01, -0.035 and -0.04)",
     )
     heat.add_argument(
         "--turnover",
         metavar="T0",
-        help=f"parabola turnover temperature in °C (default {TUNING_FORK_TURNOVER_C})",
+        help=f"parabola turnover temperature in °C (default {TUNING_FORK_TURNOVER_C}; "
+        "datasheets: 25 ± 5)",
     )
     heat.add_argument("--band", metavar="PPM", help='symmetric stability band, e.g. "20 ppm"')
     heat.add_argument("--temperature", metavar="LOW..HIGH", help="range in °C, e.g. -20..70")

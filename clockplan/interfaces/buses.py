@@ -10,9 +10,15 @@ Sources:
   datasheet, so ``max`` is required (common practice).
 * SD cards: default speed ≤ 25 MHz and high speed ≤ 50 MHz (SD Association bus-speed
   figures and the SD Physical Layer Simplified Specification's TRAN_SPEED values, seen);
-  identification ≤ 400 kHz and SPI mode ≤ 25 MHz (from memory). Every mode but
-  identification also needs the identification clock while the card starts, so it adds
-  that rate too (``identification = false`` leaves it out).
+  identification ≤ 400 kHz and SPI mode ≤ 25 MHz (from memory, and said so wherever they
+  are shown). The SD bus modes also need the identification clock while the card starts
+  (its command line is open-drain until the card has an address), so they add that rate
+  too (``identification = false`` leaves it out). SPI mode does not add it: its lines are
+  push-pull from the start and the card may be clocked at up to 25 MHz at once (Source: a
+  published answer on a programming mailing list, 2016, pointing to the timing appendix of
+  an SD card maker's product manual). Many published SPI-mode start-up guides still ask for
+  100–400 kHz until the card is ready (common practice): ``identification = true`` adds the
+  slow clock in SPI mode for firmware that starts that way.
 * I2C: standard mode ≤ 100 kHz, fast mode ≤ 400 kHz, fast-mode plus ≤ 1 MHz, high-speed
   mode ≤ 3.4 MHz, ultra-fast mode ≤ 5 MHz (the I2C-bus specification and user manual,
   UM10204; seen restated in several sources). These are maxima: 97 kHz serves a
@@ -27,8 +33,8 @@ from fractions import Fraction
 
 from clockplan._fields import Fields
 from clockplan.interfaces.base import Divisors, Peripheral, Requirement
-from clockplan.interfaces.common import read_clock
-from clockplan.quantities import QuantityError, format_hz, parse_frequency, parse_integer_choices
+from clockplan.interfaces.common import parse_flag, read_clock
+from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
 __all__ = ["KINDS", "SD_MODES", "I2C_MODES", "SD_IDENTIFICATION", "read"]
 
@@ -37,12 +43,17 @@ KINDS = ("spi", "qspi", "sd", "i2c")
 SD_IDENTIFICATION = Fraction(400_000)
 """Card identification clock maximum, hertz (from memory)."""
 SD_MODES: dict[str, tuple[Fraction, str]] = {
-    "identification": (SD_IDENTIFICATION, "SD Physical Layer spec: identification ≤ 400 kHz"),
+    "identification": (
+        SD_IDENTIFICATION,
+        "SD Physical Layer spec: identification ≤ 400 kHz (from memory)",
+    ),
     "default-speed": (Fraction(25_000_000), "SD Physical Layer spec: default speed ≤ 25 MHz"),
     "high-speed": (Fraction(50_000_000), "SD Physical Layer spec: high speed ≤ 50 MHz"),
-    "spi": (Fraction(25_000_000), "SD Physical Layer spec: SPI mode ≤ 25 MHz"),
+    "spi": (Fraction(25_000_000), "SD Physical Layer spec: SPI mode ≤ 25 MHz (from memory)"),
 }
 """SD bus modes: the clock maximum and its source."""
+SD_SLOW_START = {"identification": False, "default-speed": True, "high-speed": True, "spi": False}
+"""Whether a mode adds the identification clock unless told otherwise (see the docstring)."""
 I2C_MODES: dict[str, tuple[Fraction, str]] = {
     "standard": (Fraction(100_000), "I2C-bus specification UM10204: standard mode ≤ 100 kHz"),
     "fast": (Fraction(400_000), "I2C-bus specification UM10204: fast mode ≤ 400 kHz"),
@@ -58,12 +69,6 @@ DEFAULT_DIVIDE: dict[str, Divisors] = {
     "i2c": range(1, 4097),
 }
 """Each kind's prescaler when the scenario gives none: our own defaults."""
-
-
-def _flag(value: object) -> bool:
-    if not isinstance(value, bool):
-        raise QuantityError(f"{value!r} is not true or false")
-    return value
 
 
 def _ceiling(
@@ -122,7 +127,8 @@ def read(fields: Fields, name: str) -> Peripheral:
     words = {"spi": "SPI clock", "qspi": "quad SPI clock", "sd": "SD clock", "i2c": "I2C clock"}
     label = words[kind] + (f" ({mode})" if mode else "")
     requirements = [_ceiling(name, label, f"{name}.divide", maximum, floor, basis, divide)]
-    if kind == "sd" and fields.take("identification", _flag, True) and mode != "identification":
+    slow_start = kind == "sd" and fields.take("identification", parse_flag, SD_SLOW_START[mode])
+    if slow_start and mode != "identification":
         identification, identification_basis = SD_MODES["identification"]
         first = _ceiling(
             name,

@@ -10,32 +10,36 @@ Sources:
 
 * Segment limits of classical CAN (PROP 1–8, PHASE1 1–8, PHASE2 from the information
   processing time of at most 2 tq up to 8, SJW ≤ min(4, PHASE1), 8–25 tq per bit, at most
-  1 Mbit/s): CAN Specification 2.0 Part B, bit-timing requirements, as restated by
-  microcontroller CAN chapters and by F. Hartwich and A. Bassemir, *The Configuration of the
-  CAN Bit Timing*, 6th International CAN Conference, 1999. We read "PHASE2 = max(PHASE1,
-  IPT)" as PHASE2 ≥ IPT, as the CiA DS-102 table below does (PHASE2 = 2 with PROP + PHASE1 =
-  13). SJW ≤ min(PHASE1, PHASE2) is also stated in microcontroller CAN chapters.
+  1 Mbit/s): CAN Specification 2.0 Part B, bit-timing requirements (section number from
+  memory), as restated by microcontroller CAN chapters and by F. Hartwich and A.
+  Bassemir, *The Configuration of the CAN Bit Timing*, 6th International CAN Conference,
+  Turin, 1999. We read "PHASE2 = max(PHASE1, IPT)" as PHASE2 ≥ IPT, as the CiA DS-102
+  table below does (PHASE2 = 2 with PROP + PHASE1 = 13). SJW ≤ min(PHASE1, PHASE2) is also
+  stated in microcontroller CAN chapters.
 * Oscillator tolerance (each node's deviation from nominal, two nodes at opposite ends
-  already accounted for): CAN Specification 2.0 Part B §9 "Oscillator Tolerance" and
-  ISO 11898-1, both conditions must hold:
+  already accounted for), both conditions must hold:
   I  df ≤ min(PHASE1, PHASE2) / (2 · (13 · quanta − PHASE2)),
   II df ≤ SJW / (20 · quanta).
+  Source: Hartwich and Bassemir (above), the section on the oscillator tolerance range,
+  and ISO 11898-1 (clause not given here); restated in microcontroller CAN reference
+  manuals. CAN Specification 2.0 Part B §9 "Oscillator Tolerance" states only the result
+  for the most tolerant timing, "a maximum oscillator tolerance of 1.58 %", and the rule of
+  thumb that it allows a ceramic resonator at bus speeds up to 125 kbit/s.
 * Default sample point: CiA DS-102 v2.0 recommendation (75 % at 1 Mbit/s, 80 % at
   800 kbit/s, 87.5 % at 500 kbit/s and below); a rate between two table rows takes the row of
   the next higher rate (our reading). The ± 2.5 percentage-point window around it is our
   own default: it lets the search trade a little position for a more exact bit rate or a
   wider tolerance.
 * CAN FD data phase: condition III df ≤ SJW_D / (20 · data quanta), the analogue of II for
-  the data bit time (ISO 11898-1:2015; from memory). The data bit time may not be longer than
-  the nominal one (ISO 11898-1:2015 §6.3.1.1). Not applied: ISO 11898-1:2015's two further
-  conditions that mix the nominal and the data bit times (from memory, they cover the switch
-  from the data phase back to nominal bit timing); we could not confirm their form from a
-  published source. Nor do
-  we hold both phases to one prescaler (CiA's generic-setting advice); narrow
-  ``data_prescaler`` and ``prescaler`` to do so. Data-phase defaults (sample point 75 %,
-  window ± 5 points, i.e. 70–80 %) are common practice, no source; the CAN FD segment
-  ranges are typical controller ranges, from memory: set them from your controller's
-  description.
+  the data bit time (ISO 11898-1:2015; from memory). The data bit time may not be longer
+  than the nominal one (ISO 11898-1:2015; from memory, clause not confirmed). Not applied:
+  ISO 11898-1:2015's two further conditions that mix the nominal and the data bit times
+  (from memory, they cover the switch from the data phase back to nominal bit timing); we
+  could not confirm their form from a published source. Nor do we hold both phases to one
+  prescaler (CiA's generic-setting advice); narrow ``data_prescaler`` and ``prescaler`` to
+  do so. Data-phase defaults (sample point 75 %, window ± 5 points, i.e. 70–80 %) are
+  common practice, no source; the CAN FD segment ranges are typical controller ranges,
+  from memory: set them from your controller's description.
 """
 
 from __future__ import annotations
@@ -363,7 +367,7 @@ def read(fields: Fields, name: str) -> Peripheral:
         limits=CLASSICAL_LIMITS if classical else FD_NOMINAL_LIMITS,
         sample_point=None,
         window=NOMINAL_WINDOW,
-        basis="ISO 11898-1 / CAN 2.0B §9: conditions I and II of the chosen timing",
+        basis="conditions I and II of the timing: ISO 11898-1; Hartwich & Bassemir, 1999",
     )
     if nominal.bitrate > CLASSICAL_MAX_BITRATE:
         phase_name = "classical CAN" if classical else "the nominal (arbitration) phase"

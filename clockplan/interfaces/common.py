@@ -1,13 +1,13 @@
-"""Keys shared by every peripheral kind: ``from`` and an ``allowance`` override."""
+"""Keys shared by every peripheral kind (``from``, an ``allowance`` override) and flags."""
 
 from __future__ import annotations
 
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.quantities import parse_relative
+from clockplan.quantities import QuantityError, parse_relative
 
-__all__ = ["read_clock", "read_allowance"]
+__all__ = ["read_clock", "read_allowance", "parse_flag"]
 
 
 def read_clock(fields: Fields) -> str:
@@ -26,3 +26,10 @@ def read_allowance(fields: Fields, default: Fraction | None, basis: str) -> tupl
     if default is None:
         raise fields.error("allowance", 'is missing; give the tolerance like "50 ppm"')
     return default, basis
+
+
+def parse_flag(value: object) -> bool:
+    """A yes-or-no key: TOML ``true`` or ``false`` only."""
+    if not isinstance(value, bool):
+        raise QuantityError(f"{value!r} is not true or false")
+    return value

@@ -2,21 +2,36 @@
 
 Baud = kernel / (oversampling × divisor), divisor = whole part + fraction / 2**fraction_bits.
 
-Default allowance, derived: the receiver restarts timing on the start bit's
-falling edge, which it finds only to within one sample (1/S bit at S× oversampling),
-and votes on the samples around mid-bit. It must still land inside the last data
-or parity bit's cell (the stop bit's own sample tolerates the rest). With
-D = data + parity bits, the slowest and fastest incoming rates relative to the
-receiver's own are
+Default allowance, derived. The receiver restarts timing on the start bit's falling
+edge, which it finds only to within one sample (1/S bit at S× oversampling), and votes
+on the samples around mid-bit. Both limits bind at the stop bit's samples: against a
+slow sender the stop bit must have begun by the first sample of the vote, against a fast
+one it must not have ended by the middle sample. With D = data + parity bits, the
+slowest and fastest incoming rates relative to the receiver's own are
 
-    R_slow = (D + 1)·S / (S − 1 + D·S + S/2)
-    R_fast = (D + 2)·S / ((D + 1)·S + S/2 + 1)
+    R_slow = (D + 1)·S / (S − 1 + D·S + S_F)
+    R_fast = (D + 2)·S / ((D + 1)·S + S_M)
 
-(Source: the "asynchronous operational range" derivation published in
-microcontroller serial-port datasheets; reproduces their tables, e.g. 8N1 at 16×:
-144/151 and 160/153.) The link tolerates the smaller of 1 − R_slow and R_fast − 1
-as total mismatch between the two ends; common practice splits it evenly, so each
-end gets half: 8N1 at 16× → 7/153 / 2 = 2.288 %.
+with S_F = S/2 the first and S_M = S/2 + 1 the middle sample of the vote (Source: the
+"asynchronous operational range" section of microcontroller serial-port datasheets,
+which gives both formulas and tables they reproduce, e.g. 8N1 at 16×: 144/151 and
+160/153).
+
+Each end's share. A link carries data both ways, so each end's rate is checked against
+the other's in both directions: with this end off by e_a and the far end by e_b, the
+ratios (1 + e_a)/(1 + e_b) and (1 + e_b)/(1 + e_a) must both lie in [R_slow, R_fast].
+Halving the link limit breaks this when the ends sit at opposite extremes, because
+(1 + e)/(1 − e) exceeds 1 + 2e. With both ends allowed the same ±e the exact bound is
+
+    e ≤ min((R_fast − 1)/(R_fast + 1), (1 − R_slow)/(1 + R_slow))
+
+(8N1 at 16×: 7/313 ≈ 2.236 %; at 8×: 3/157 ≈ 1.911 %). When the far end's own tolerance
+±t is known (key ``far_end_tolerance``), this end gets what the link leaves:
+
+    e ≤ min(R_fast·(1 − t) − 1, 1 − R_slow·(1 + t), 1 − (1 + t)/R_fast, (1 − t)/R_slow − 1)
+
+(derived here from the same two limits; with t equal to the symmetric bound it gives that
+bound back). The far end's receiver is taken to sample as this one does.
 """
 
 from __future__ import annotations
@@ -32,6 +47,7 @@ from clockplan.quantities import (
     QuantityError,
     format_relative,
     parse_integer_choices,
+    parse_relative,
 )
 
 KINDS = ("uart",)
@@ -40,18 +56,32 @@ MAX_BAUD_RATES = 64
 """The most baud rates one UART may list (each is a requirement of the search)."""
 
 
-def link_mismatch_limit(data_bits: int, parity: bool, oversampling: int) -> Fraction:
-    """Largest total rate mismatch between two ends that a frame survives (see module doc)."""
+def receiver_limits(data_bits: int, parity: bool, oversampling: int) -> tuple[Fraction, Fraction]:
+    """(R_slow, R_fast): the slowest and fastest incoming rate a receiver accepts, as ratios."""
     bits = data_bits + int(parity)
     samples = oversampling
-    slow = Fraction((bits + 1) * samples, samples - 1 + bits * samples + Fraction(samples, 2))
-    fast = Fraction((bits + 2) * samples, (bits + 1) * samples + Fraction(samples, 2) + 1)
-    return min(1 - slow, fast - 1)
+    first, middle = Fraction(samples, 2), Fraction(samples, 2) + 1
+    slow = Fraction((bits + 1) * samples) / (samples - 1 + bits * samples + first)
+    fast = Fraction((bits + 2) * samples) / ((bits + 1) * samples + middle)
+    return slow, fast
 
 
-def per_end_allowance(data_bits: int, parity: bool, oversampling: int) -> Fraction:
-    """Each end's share of the link limit: half, as common practice splits it."""
-    return link_mismatch_limit(data_bits, parity, oversampling) / 2
+def per_end_allowance(
+    data_bits: int, parity: bool, oversampling: int, far_end: Fraction | None = None
+) -> Fraction:
+    """This end's largest deviation from nominal: both ends alike, or beside a known far end.
+
+    Zero or less means the far end's tolerance leaves nothing (see the module docstring).
+    """
+    slow, fast = receiver_limits(data_bits, parity, oversampling)
+    if far_end is None:
+        return min((fast - 1) / (fast + 1), (1 - slow) / (1 + slow))
+    return min(
+        fast * (1 - far_end) - 1,
+        1 - slow * (1 + far_end),
+        1 - (1 + far_end) / fast,
+        (1 - far_end) / slow - 1,
+    )
 
 
 def _baud_list(value: object) -> tuple[int, ...]:
@@ -80,11 +110,8 @@ def read(fields: Fields, name: str) -> Peripheral:
     data_bits = fields.take_int("data_bits", 8, minimum=5, maximum=9)
     parity = fields.take_str("parity", "none", choices=PARITIES)
     stop_bits = fields.take_int("stop_bits", 1, minimum=1, maximum=2)
-    limit = per_end_allowance(data_bits, parity != "none", oversampling)
     frame = f"{data_bits}{parity[0].upper()}{stop_bits}"
-    allowance, basis = read_allowance(
-        fields, limit, f"derived for {frame} at {oversampling}x: half the link limit"
-    )
+    allowance, basis = _allowance(fields, frame, data_bits, parity != "none", oversampling)
     scale = 2**fraction_bits
     _check_counts(fields, divisor, scale)
     counts = _scaled(divisor, scale)
@@ -110,6 +137,31 @@ def read(fields: Fields, name: str) -> Peripheral:
         ("allowance per end", format_relative(allowance)),
     )
     return Peripheral(name, "uart", clock, requirements, details)
+
+
+def _allowance(
+    fields: Fields, frame: str, data_bits: int, parity: bool, oversampling: int
+) -> tuple[Fraction, str]:
+    """The ``allowance`` override, or this end's share with or without ``far_end_tolerance``."""
+    derived = f"derived for {frame} at {oversampling}x"
+    if not fields.has("far_end_tolerance"):
+        limit = per_end_allowance(data_bits, parity, oversampling)
+        return read_allowance(fields, limit, f"{derived}: equal ends at opposite extremes")
+    if fields.has("allowance"):
+        raise fields.error(
+            "far_end_tolerance", "and allowance both set this end's allowance; give one"
+        )
+    far_end = fields.take("far_end_tolerance", parse_relative)
+    limit = per_end_allowance(data_bits, parity, oversampling, far_end)
+    if limit <= 0:
+        whole = per_end_allowance(data_bits, parity, oversampling, Fraction(0))
+        raise fields.error(
+            "far_end_tolerance",
+            f"{format_relative(far_end)} leaves nothing for this end: even with this end "
+            f"exact, {frame} at {oversampling}x tolerates at most {format_relative(whole)} there",
+        )
+    basis = f"{derived}: what the far end's ±{format_relative(far_end)} leaves"
+    return read_allowance(fields, limit, basis)
 
 
 def _check_counts(fields: Fields, divisor: Divisors, scale: int) -> None:

@@ -1,15 +1,23 @@
-"""USB full speed: a 48 MHz kernel clock within the full-speed data-rate tolerance.
+"""USB: a kernel clock within the data-rate tolerance of the speed and of the device's role.
 
-Source: USB 2.0 Specification, §7.1.11 "Data Signaling Rate": full-speed data rate
-12.000 Mb/s ±0.25 % (section number from memory; the figure is quoted verbatim in
-public material). A full-speed transceiver samples at 4× the bit rate, so its clock
-is 48 MHz and inherits the ±0.25 % (common practice, no source).
+Source: USB 2.0 Specification, §7.1.11 "Data Signaling Rate" (the section number and its
+wording are confirmed by published quotations):
 
-The same section gives low speed 1.50 Mb/s ±1.5 % ("allows the use of resonators in
-low-cost low-speed devices") and high speed 480.00 Mb/s ±500 ppm. A low-speed device's
-kernel clock is its oversampling (4×, as at full speed: common practice) × 1.5 Mb/s; a
-high-speed PHY multiplies one reference frequency (named in the scenario: the board straps
-one) up to 480 Mb/s, and its PLL passes the reference's relative error through unchanged.
+* high speed: 480.00 Mb/s ±500 ppm;
+* full speed: 12.000 Mb/s. Hosts, hubs and high-speed-capable devices must transmit full
+  speed (and low speed) within ±0.05 % (500 ppm); only a full-speed-only device may use
+  ±0.25 %;
+* low speed: 1.50 Mb/s ±1.5 % for a low-speed device ("allows the use of resonators in
+  low-cost low-speed devices"); a host or hub sending low speed holds ±0.05 %.
+
+So each kind defaults to the strict figure, and a scenario says when its device earns the
+looser one (``full_speed_only_device = true``, ``low_speed_device = true``); the allowance
+basis says which rule applied. A full-speed transceiver samples at 4× the bit rate, so its
+clock is 48 MHz and inherits the tolerance (common practice, no source); a low-speed
+device's kernel clock is its oversampling (4×, as at full speed: common practice) ×
+1.5 Mb/s; a high-speed PHY multiplies one reference frequency (named in the scenario: the
+board straps one) up to 480 Mb/s, and its PLL passes the reference's relative error
+through unchanged.
 """
 
 from __future__ import annotations
@@ -18,15 +26,42 @@ from fractions import Fraction
 
 from clockplan._fields import Fields
 from clockplan.interfaces.base import Peripheral, Requirement
-from clockplan.interfaces.common import read_allowance, read_clock
+from clockplan.interfaces.common import parse_flag, read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
 KINDS = ("usb-full-speed", "usb-low-speed", "usb-high-speed")
 
 FULL_SPEED_CLOCK = Fraction(48_000_000)
 """Kernel clock of a full-speed USB device: 4 × 12 Mb/s, in hertz."""
-FULL_SPEED_TOLERANCE = Fraction(25, 10_000)
-"""±0.25 %: USB 2.0 §7.1.11, full-speed data signalling rate."""
+HOST_TOLERANCE = Fraction(5, 10_000)
+"""±0.05 %: USB 2.0 §7.1.11, full and low speed sent by hosts, hubs, high-speed-capable devices."""
+FULL_SPEED_ONLY_TOLERANCE = Fraction(25, 10_000)
+"""±0.25 %: USB 2.0 §7.1.11, full speed sent by a full-speed-only device."""
+LOW_SPEED_RATE = Fraction(1_500_000)
+"""Low-speed data rate, bits per second."""
+LOW_SPEED_DEVICE_TOLERANCE = Fraction(15, 1000)
+"""±1.5 %: USB 2.0 §7.1.11, low speed sent by a low-speed device."""
+HIGH_SPEED_TOLERANCE = Fraction(500, 10**6)
+"""±500 ppm: USB 2.0 §7.1.11, high-speed data signalling rate (480 Mb/s)."""
+
+FULL_SPEED_STRICT_BASIS = "USB 2.0 §7.1.11: sent by a host, hub or high-speed-capable device"
+FULL_SPEED_ONLY_BASIS = "USB 2.0 §7.1.11: sent by a full-speed-only device"
+LOW_SPEED_STRICT_BASIS = "USB 2.0 §7.1.11: low speed sent by a host or hub"
+LOW_SPEED_DEVICE_BASIS = "USB 2.0 §7.1.11: sent by a low-speed device"
+
+
+def full_speed_rule(full_speed_only_device: bool) -> tuple[Fraction, str]:
+    """The full-speed tolerance and its basis: ±0.25 % only for a full-speed-only device."""
+    if full_speed_only_device:
+        return FULL_SPEED_ONLY_TOLERANCE, FULL_SPEED_ONLY_BASIS
+    return HOST_TOLERANCE, FULL_SPEED_STRICT_BASIS
+
+
+def low_speed_rule(low_speed_device: bool) -> tuple[Fraction, str]:
+    """The low-speed tolerance and its basis: ±1.5 % only for a low-speed device."""
+    if low_speed_device:
+        return LOW_SPEED_DEVICE_TOLERANCE, LOW_SPEED_DEVICE_BASIS
+    return HOST_TOLERANCE, LOW_SPEED_STRICT_BASIS
 
 
 def read(fields: Fields, name: str) -> Peripheral:
@@ -41,11 +76,10 @@ def read(fields: Fields, name: str) -> Peripheral:
 
 
 def read_full_speed(fields: Fields, name: str) -> Peripheral:
-    """Read ``kind = "usb-full-speed"``: only ``from`` (and an ``allowance`` override)."""
+    """Read ``kind = "usb-full-speed"``: ``from``, ``full_speed_only_device``, ``allowance``."""
     clock = read_clock(fields)
-    allowance, basis = read_allowance(
-        fields, FULL_SPEED_TOLERANCE, "USB 2.0 §7.1.11: full speed 12 Mb/s ±0.25 %"
-    )
+    tolerance, rule = full_speed_rule(fields.take("full_speed_only_device", parse_flag, False))
+    allowance, basis = read_allowance(fields, tolerance, rule)
     requirement = Requirement(
         peripheral=name,
         label="48 MHz kernel",
@@ -57,22 +91,13 @@ def read_full_speed(fields: Fields, name: str) -> Peripheral:
     return Peripheral(name, "usb-full-speed", clock, (requirement,))
 
 
-LOW_SPEED_RATE = Fraction(1_500_000)
-"""Low-speed data rate, bits per second."""
-LOW_SPEED_TOLERANCE = Fraction(15, 1000)
-"""±1.5 %: USB 2.0 §7.1.11, low-speed data signalling rate."""
-HIGH_SPEED_TOLERANCE = Fraction(500, 10**6)
-"""±500 ppm: USB 2.0 §7.1.11, high-speed data signalling rate (480 Mb/s)."""
-
-
 def read_low_speed(fields: Fields, name: str) -> Peripheral:
-    """Read ``kind = "usb-low-speed"``: ``oversampling`` (4) and the peripheral's ``divide``."""
+    """Read ``kind = "usb-low-speed"``: ``oversampling`` (4), ``divide``, ``low_speed_device``."""
     clock = read_clock(fields)
     oversampling = fields.take_int("oversampling", 4, minimum=1, maximum=64)
     divide = fields.take("divide", parse_integer_choices, (1,))
-    allowance, basis = read_allowance(
-        fields, LOW_SPEED_TOLERANCE, "USB 2.0 §7.1.11: low speed 1.5 Mb/s ±1.5 %"
-    )
+    tolerance, rule = low_speed_rule(fields.take("low_speed_device", parse_flag, False))
+    allowance, basis = read_allowance(fields, tolerance, rule)
     kernel = LOW_SPEED_RATE * oversampling
     requirement = Requirement(
         peripheral=name,
