@@ -2,7 +2,13 @@
 
 from __future__ import annotations
 
-__all__ = ["ClockplanError", "ScenarioError", "InputError", "ModelTooLargeError"]
+__all__ = [
+    "ClockplanError",
+    "ScenarioError",
+    "InputError",
+    "ModelTooLargeError",
+    "ArgumentTypeError",
+]
 
 
 class ClockplanError(Exception):
@@ -32,5 +38,9 @@ class InputError(ValueError, ClockplanError):
         super().__init__(f"{option}: {problem}")
 
 
-class ModelTooLargeError(ClockplanError):
+class ModelTooLargeError(OverflowError, ClockplanError):
     """A scenario would overflow 64-bit integers or explode the enumeration."""
+
+
+class ArgumentTypeError(TypeError, ClockplanError):
+    """A library function was given an argument of the wrong type (a number for a path …)."""
