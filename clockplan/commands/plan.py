@@ -74,7 +74,7 @@ def run_search(args: argparse.Namespace, *, show_progress: bool) -> SearchResult
         raise InputError("--workers", f"{args.workers} is not a thread count from 1 to 64")
     if not args.time_limit > 0:
         raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
-    scenario = load_scenario(args.file or default_scenario_path())
+    scenario = load_scenario(default_scenario_path() if args.file is None else args.file)
     if not show_progress or not sys.stderr.isatty():
         return search(scenario, top=args.top, time_limit=args.time_limit, workers=args.workers)
     started = time.monotonic()
