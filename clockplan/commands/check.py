@@ -12,6 +12,7 @@ import json
 from rich.console import Console
 
 from clockplan.commands.plan import add_search_options, run_search
+from clockplan.errors import InputError
 from clockplan.export import plan_to_data
 from clockplan.quantities import format_hz
 from clockplan.render import explanation_text
@@ -36,6 +37,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
 
 def run(args: argparse.Namespace) -> int:
     """Print the verdict; return 0 (fits), 1 (no plan fits) or 2 (raised as an error)."""
+    if args.top < 1:  # check ranks one plan, but a bad --top is still a mistake to report
+        raise InputError("--top", f"{args.top} is not a positive count of plans")
     args.top = 1
     result = run_search(args, show_progress=False)
     best = result.plans[0] if result.plans else None
