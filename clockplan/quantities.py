@@ -384,7 +384,14 @@ def format_hz(value: Fraction | int, *, digits: int = 7) -> str:
     return f"{_trim(value, digits)} Hz"
 
 
+LARGEST_SHOWN_EXACTLY = 10**15
+"""Past this a value is shown in powers of ten: its digits no longer help (and a float or a
+decimal string of it may not even exist)."""
+
+
 def _trim(value: Fraction, digits: int) -> str:
+    if abs(value) >= LARGEST_SHOWN_EXACTLY:
+        return _scientific(value, digits)
     if value.denominator == 1:
         return str(value.numerator)
     text = f"{float(value):.{digits}f}".rstrip("0").rstrip(".")
@@ -392,9 +399,36 @@ def _trim(value: Fraction, digits: int) -> str:
     return text if exact else f"{float(value):.{digits}g}".rstrip("0").rstrip(".") + "…"
 
 
+def _scientific(value: Fraction, digits: int) -> str:
+    """``value`` as ``"1.234567e20"``, rounded to ``digits`` significant digits ("…" when
+    rounded), for a value of any size: only integers are used, never a float."""
+    magnitude = abs(value)
+    # 10**exponent <= magnitude < 10**(exponent + 1), from the bit lengths, then corrected.
+    bits = magnitude.numerator.bit_length() - magnitude.denominator.bit_length()
+    exponent = max(0, int(bits * 0.30102999566398120) - 1)
+    while magnitude >= Fraction(10) ** (exponent + 1):
+        exponent += 1
+    scaled = magnitude * 10 ** (digits - 1) / Fraction(10) ** exponent
+    mantissa = round(scaled)
+    if mantissa == 10**digits:  # 9.9999999 rounded up to 10
+        mantissa, exponent = mantissa // 10, exponent + 1
+    shown = str(mantissa)
+    text = f"{shown[0]}.{shown[1:]}".rstrip("0").rstrip(".")
+    sign = "-" if value < 0 else ""
+    return f"{sign}{text}e{exponent}" + ("" if scaled == mantissa else "…")
+
+
+def _finite(value: Fraction | float) -> float:
+    """``float(value)``, saturating at ±inf instead of raising for values past a float."""
+    try:
+        return float(value)
+    except OverflowError:
+        return float("inf") if value > 0 else float("-inf")
+
+
 def format_ppm(value: Fraction | float, *, signed: bool = False) -> str:
     """Show a ratio in ppm, e.g. ``format_ppm(Fraction(1, 400))`` -> ``"2500 ppm"``."""
-    ppm = float(value) * 1e6
+    ppm = _finite(value) * 1e6
     text = f"{ppm:+.3f}" if signed else f"{ppm:.3f}"
     text = text.rstrip("0").rstrip(".")
     return f"{text} ppm"
@@ -402,8 +436,8 @@ def format_ppm(value: Fraction | float, *, signed: bool = False) -> str:
 
 def format_relative(value: Fraction | float, *, signed: bool = False) -> str:
     """Show a ratio in ppm below 0.1 % and in percent above, as engineers write them."""
-    if abs(float(value)) >= 1e-3:
-        percent = float(value) * 100
+    if abs(_finite(value)) >= 1e-3:
+        percent = _finite(value) * 100
         text = f"{percent:+.4f}" if signed else f"{percent:.4f}"
         return text.rstrip("0").rstrip(".") + " %"
     return format_ppm(value, signed=signed)
