@@ -15,6 +15,7 @@ from typing import NoReturn
 from clockplan import __version__
 from clockplan.commands import COMMAND_NAMES, command_module
 from clockplan.errors import ClockplanError
+from clockplan.text_safety import printable, shorten
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
@@ -35,6 +36,15 @@ class OneLineParser(argparse.ArgumentParser):
 def one_line(message: str) -> str:
     """``message`` with its line breaks shown as ``\\n``, so that it stays one line."""
     return "\\n".join(message.splitlines())
+
+
+MAX_MESSAGE = 2000
+"""The longest error line printed; what a message quotes is cut well before this."""
+
+
+def safe_line(message: str) -> str:
+    """``message`` as one line that changes no terminal: controls escaped, length capped."""
+    return printable(shorten(one_line(message), MAX_MESSAGE))
 
 
 def build_parser(only: str | None = None) -> argparse.ArgumentParser:
@@ -75,7 +85,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ClockplanError as error:
         if args.debug:
             raise
-        print(f"clockplan: {one_line(str(error))}", file=sys.stderr)
+        print(f"clockplan: {safe_line(str(error))}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)
@@ -86,5 +96,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def main_entry() -> None:
-    """Console-script entry point."""
-    sys.exit(main())
+    """Console-script entry point (see :mod:`clockplan.entry`, which guards the imports)."""
+    from clockplan.entry import main_entry as guarded
+
+    guarded()
