@@ -73,6 +73,8 @@ MAX_ITEMS = 1000
 MAX_RATES = 1000
 """The most rates (baud rates, bit rates, clocks …) all peripherals together may ask for;
 each is a requirement of the search, and a model of tens of thousands never finishes."""
+MAX_NAME_LENGTH = 64
+"""The longest name of a clock or peripheral: it becomes part of settings keys and C names."""
 MAX_FILE_BYTES = 4 * 2**20
 """The largest scenario file read: a real one is a few kilobytes, /dev/zero is endless."""
 MAX_YEARS = 100
@@ -298,6 +300,8 @@ def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-d
             raise table.error(
                 name, "names must start with a letter and hold only letters, digits and _"
             )
+        if len(name) > MAX_NAME_LENGTH:
+            raise table.error(name, f"is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
         fields = table.sub(name)
         items.append(read(fields, name))
         fields.finish()

@@ -18,6 +18,7 @@ from clockplan.quantities import format_hz
 from clockplan.render import explanation_text
 from clockplan.solve import Status
 from clockplan.solve.explain import explain_infeasibility
+from clockplan.text_safety import printable
 
 EXIT_OK, EXIT_NO_PLAN = 0, 1
 
@@ -63,7 +64,7 @@ def run(args: argparse.Namespace) -> int:
         print(json.dumps(data, indent=2))
         return EXIT_OK if fits else EXIT_NO_PLAN
     console = Console(highlight=False, soft_wrap=True)
-    title = f"{result.scenario.file}: {result.scenario.title}"
+    title = printable(f"{result.scenario.file}: {result.scenario.title}")
     if fits and best is not None:
         oscillators = ", ".join(f"{n} {format_hz(f)}" for n, f in best.plan.sources.items())
         worst = best.evaluation.worst
