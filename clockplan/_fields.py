@@ -25,6 +25,9 @@ class _Missing:
 MISSING: Any = _Missing()
 """Marks a key that has no default: leaving it out is an error."""
 
+MAX_KEY_SHOWN = 100
+"""The most characters of one key a key path shows; longer ones are cut (and quoted)."""
+
 _BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
 """A key TOML writes without quotes; any other key is shown quoted (and on one line)."""
 
@@ -42,8 +45,8 @@ class Fields:
 
     def key(self, name: str) -> str:
         """The dotted key path of ``name`` inside this table, quoted as TOML would need it."""
-        if len(name) > MAX_QUOTED:  # a name of megabytes is cut, and quoted to show it is
-            written = json.dumps(shorten(name))
+        if len(name) > MAX_KEY_SHOWN:  # a name of megabytes is cut, and quoted to show it is
+            written = json.dumps(shorten(name, MAX_KEY_SHOWN))
         else:
             written = name if _BARE_KEY.fullmatch(name) else json.dumps(name)
         return f"{self.path}.{written}" if self.path else written

@@ -79,7 +79,7 @@ _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.][^\s]*)?\s*$", re.ASCII)
 _RANGE = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$", re.ASCII)
 _POW2 = re.compile(r"^\s*pow2\s+(\d+)(?:\s*\.\.\s*(\d+))?\s*$", re.ASCII)
 _INT = re.compile(r"^\s*[+-]?\d+\s*$", re.ASCII)
-_DEGREES = r"([+-]?(?:\d+(?:\.\d*)?|\.\d+))\s*(?:°C|C)?"
+_DEGREES = r"([+-]?\d+(?:\.\d+)?)\s*(?:°C|C)?"
 _TEMPERATURES = re.compile(rf"^\s*{_DEGREES}\s*\.\.\s*{_DEGREES}\s*$", re.ASCII)
 """A temperature range: two plain numbers, each with "°C" or "C" at most once after it."""
 

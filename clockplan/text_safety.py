@@ -60,6 +60,8 @@ def quoted(value: object, limit: int = MAX_QUOTED) -> str:
 def describe_character(character: str) -> str:
     """``U+041C CYRILLIC CAPITAL LETTER EM``: a character by code point and Unicode name."""
     name = unicodedata.name(character, "")
+    if not name and unicodedata.category(character) == "Cc":
+        name = "(a control character)"
     return f"U+{ord(character):04X} {name}".rstrip()
 
 
