@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import re
 import sys
 from collections.abc import Sequence
 from typing import NoReturn
@@ -15,7 +16,7 @@ from typing import NoReturn
 from clockplan import __version__
 from clockplan.commands import COMMAND_NAMES, command_module
 from clockplan.errors import ClockplanError
-from clockplan.text_safety import printable, shorten
+from clockplan.text_safety import MAX_QUOTED, printable, shorten
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
@@ -30,7 +31,7 @@ class OneLineParser(argparse.ArgumentParser):
 
     def error(self, message: str) -> NoReturn:
         """Report a usage error as ``clockplan: <message>`` and exit 2."""
-        self.exit(EXIT_BAD_INPUT, f"clockplan: {one_line(message)}; see '{self.prog} --help'\n")
+        self.exit(EXIT_BAD_INPUT, f"clockplan: {safe_line(message)}; see '{self.prog} --help'\n")
 
 
 def one_line(message: str) -> str:
@@ -42,9 +43,16 @@ MAX_MESSAGE = 2000
 """The longest error line printed; what a message quotes is cut well before this."""
 
 
+_LONG_QUOTE = re.compile(rf"(?<=: )'((?:[^'\\]|\\.){{{MAX_QUOTED + 1},}})'")
+"""A value quoted after a colon, as argparse quotes it ("invalid int value: '999…'"),
+that is too long to repeat."""
+
+
 def safe_line(message: str) -> str:
-    """``message`` as one line that changes no terminal: controls escaped, length capped."""
-    return printable(shorten(one_line(message), MAX_MESSAGE))
+    """``message`` as one line that changes no terminal: controls escaped, long quotes cut,
+    length capped."""
+    cut = _LONG_QUOTE.sub(lambda match: repr(shorten(match.group(1))), message)
+    return printable(shorten(one_line(cut), MAX_MESSAGE))
 
 
 def build_parser(only: str | None = None) -> argparse.ArgumentParser:

@@ -76,7 +76,8 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         "--list",
         metavar="N",
         default=str(LISTED_SETTINGS),
-        help=f"how many exact or closest settings to list (default {LISTED_SETTINGS})",
+        help=f"how many exact or closest settings to list (default {LISTED_SETTINGS}, "
+        f"at most {MAX_LISTED})",
     )
     heat = parser.add_argument_group("temperature")
     heat.add_argument(
@@ -112,7 +113,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("--source", 'is required; give the source frequency, like "32.768 kHz"')
     source = _parsed(args.source, "--source", parse_frequency)
     rate = _parsed(args.rate, "--rate", parse_frequency)
-    listed = _whole(args.list, "--list", minimum=1)
+    listed = _whole(args.list, "--list", minimum=1, maximum=MAX_LISTED)
     suggested = args.chain is None
     chain = (
         suggest_chain(source, rate) if suggested else _parsed(args.chain, "--chain", parse_chain)
@@ -137,6 +138,8 @@ def _parsed(text: str, option: str, parse: Callable[[str], Any]) -> Any:
         raise InputError(option, str(error)) from None
 
 
+MAX_LISTED = 1000
+"""The most settings --list may ask for: a table, not an enumeration of the chain."""
 MAX_COUNT = 2**62
 """The largest whole number an option takes (cycles, steps, settings listed): past it no
 calibration register or list makes sense, and the arithmetic would only grow."""
