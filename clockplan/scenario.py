@@ -82,6 +82,9 @@ MAX_YEARS = 100
 MAX_FRACTION_BITS = 24
 """Widest fractional-N modulus accepted (2**24), to keep the model inside 64-bit integers."""
 
+RANKINGS = ("worst-share", "cost")
+"""What may rank plans first (``rank_by``)."""
+
 _NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
 _SECTIONS = ("title", "conditions", "sources", "plls", "dividers", "muxes", "peripherals")
 
@@ -143,6 +146,45 @@ class Scenario:
     rank_by: str = "worst-share"
     """What ranks plans first: "worst-share" (the default) or "cost" (cheapest sources first,
     among plans that meet every allowance; then the worst share)."""
+
+    def __post_init__(self) -> None:
+        """Check a scenario built by hand as the loader checks a file, so that the search
+        and the evaluator only ever meet a well-formed board (or raise a ScenarioError)."""
+        where = self.file if isinstance(self.file, str) else "<scenario>"
+        for key, value, kind in (
+            ("title", self.title, str),
+            ("file", self.file, str),
+            ("conditions", self.conditions, Conditions),
+            ("rank_by", self.rank_by, str),
+        ):
+            if not isinstance(value, kind):
+                raise ScenarioError(where, key, f"expected {kind.__name__}, got {_type(value)}")
+        if self.rank_by not in RANKINGS:
+            known = ", ".join(RANKINGS)
+            raise ScenarioError(where, "rank_by", f"{quoted(self.rank_by)} is not one of {known}")
+        for section, items, kind in (
+            ("sources", self.sources, Source),
+            ("plls", self.plls, Pll),
+            ("dividers", self.dividers, Divider),
+            ("muxes", self.muxes, Mux),
+            ("peripherals", self.peripherals, Peripheral),
+        ):
+            if not isinstance(items, tuple):
+                raise ScenarioError(where, section, f"expected a tuple, got {_type(items)}")
+            for item in items:
+                if not isinstance(item, kind):
+                    raise ScenarioError(
+                        where, section, f"expected {kind.__name__} entries, got {_type(item)}"
+                    )
+        if not self.sources:
+            raise ScenarioError(where, "sources", "is empty; a scenario needs an oscillator")
+        for source in self.sources:
+            if not source.candidates:
+                raise ScenarioError(where, f"sources.{source.name}.choose", "offers no frequency")
+        _check_unique_names(self)
+        from clockplan.tree import check_structure
+
+        check_structure(self)
 
     def source(self, name: str) -> Source:
         """The source called ``name``."""
@@ -247,7 +289,7 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
         ) from None
     top = Fields(document, file=file, path="")
     title = top.take_str("title", Path(file).stem)
-    rank_by = top.take_str("rank_by", "worst-share", choices=("worst-share", "cost"))
+    rank_by = top.take_str("rank_by", "worst-share", choices=RANKINGS)
     conditions = _read_conditions(top)
     _count_candidate_ranges(top)
     candidates = _Budget(MAX_CANDIDATES, CANDIDATES_TOGETHER)
@@ -260,14 +302,7 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     rates = _Budget(MAX_RATES, "the peripherals ask for {} rates together")
     peripherals = _read_section(top, "peripherals", lambda f, n: _read_peripheral(f, n, rates))
     top.finish()
-    scenario = Scenario(
-        title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by
-    )
-    _check_unique_names(scenario)
-    from clockplan.tree import check_structure
-
-    check_structure(scenario)
-    return scenario
+    return Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by)
 
 
 class _Budget:
@@ -583,6 +618,10 @@ def _name_list(value: object) -> tuple[str, ...]:
     if len(set(value)) != len(value):
         raise QuantityError(f"{value!r} names an input twice")
     return tuple(value)
+
+
+def _type(value: object) -> str:
+    return type(value).__name__
 
 
 def _check_unique_names(scenario: Scenario) -> None:
