@@ -68,6 +68,7 @@ def test_malformed_file_is_one_located_line_and_exit_2(path, capsys):
         assert re.search(rf"\b{key}\b", err), err
     else:
         assert f"{path}: {key}: " in err
+    assert err.count(f"{path}:") == 1, err  # the file and key are named once
     assert path.read_bytes() == before
 
 
