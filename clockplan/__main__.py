@@ -1,5 +1,5 @@
 """Allow ``python -m clockplan``."""
 
-from clockplan.cli import main_entry
+from clockplan.entry import main_entry
 
 main_entry()

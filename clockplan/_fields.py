@@ -10,6 +10,7 @@ from typing import Any, TypeVar
 
 from clockplan.errors import ScenarioError
 from clockplan.quantities import QuantityError
+from clockplan.text_safety import MAX_QUOTED, quoted, shorten
 
 __all__ = ["Fields", "MISSING"]
 
@@ -23,6 +24,9 @@ class _Missing:
 
 MISSING: Any = _Missing()
 """Marks a key that has no default: leaving it out is an error."""
+
+MAX_KEY_SHOWN = 100
+"""The most characters of one key a key path shows; longer ones are cut (and quoted)."""
 
 _BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
 """A key TOML writes without quotes; any other key is shown quoted (and on one line)."""
@@ -41,7 +45,10 @@ class Fields:
 
     def key(self, name: str) -> str:
         """The dotted key path of ``name`` inside this table, quoted as TOML would need it."""
-        written = name if _BARE_KEY.fullmatch(name) else json.dumps(name)
+        if len(name) > MAX_KEY_SHOWN:  # a name of megabytes is cut, and quoted to show it is
+            written = json.dumps(shorten(name, MAX_KEY_SHOWN))
+        else:
+            written = name if _BARE_KEY.fullmatch(name) else json.dumps(name)
         return f"{self.path}.{written}" if self.path else written
 
     def error(self, name: str, problem: str) -> ScenarioError:
@@ -58,8 +65,9 @@ class Fields:
         if name not in self.table:
             if default is MISSING:
                 strays = [key for key in self.table if key not in self._used]
-                close = difflib.get_close_matches(name, strays, n=1, cutoff=0.6)
-                found = f" (found {close[0]!r}: misspelt?)" if close else ""
+                short = [key for key in strays if len(key) <= MAX_QUOTED]
+                close = difflib.get_close_matches(name, short, n=1, cutoff=0.6)
+                found = f" (found {quoted(close[0])}: misspelt?)" if close else ""
                 raise self.error(name, f"is missing{found}")
             return default  # type: ignore[no-any-return]
         try:
@@ -74,7 +82,7 @@ class Fields:
             raise self.error(name, f"expected a string, got {_describe(value)}")
         if choices and value not in choices:
             raise self.error(
-                name, f"{value!r} is not one of {', '.join(choices)}{hint(value, choices)}"
+                name, f"{quoted(value)} is not one of {', '.join(choices)}{hint(value, choices)}"
             )
         return value
 
@@ -108,8 +116,10 @@ def _identity(value: T) -> T:
 
 def hint(word: str, known: tuple[str, ...] | list[str]) -> str:
     """A "; did you mean 'x'?" suffix when ``word`` is close to a known word."""
+    if len(word) > MAX_QUOTED:  # no typo is that long, and comparing it would take long
+        return ""
     close = difflib.get_close_matches(word, list(known), n=1, cutoff=0.6)
-    return f"; did you mean {close[0]!r}?" if close else ""
+    return f"; did you mean {quoted(close[0])}?" if close else ""
 
 
 def _describe(value: object) -> str:
@@ -117,4 +127,4 @@ def _describe(value: object) -> str:
         return "a table"
     if isinstance(value, list):
         return "a list"
-    return f"{type(value).__name__} {value!r}"
+    return f"{type(value).__name__} {quoted(value)}"

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import re
 import sys
 import time
 from collections.abc import Sequence
@@ -17,6 +18,7 @@ from clockplan import __version__
 from clockplan.commands import COMMAND_NAMES, command_module
 from clockplan.errors import ClockplanError, InternalError
 from clockplan.exits import Exit
+from clockplan.text_safety import MAX_QUOTED, printable, shorten
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
@@ -31,12 +33,28 @@ class OneLineParser(argparse.ArgumentParser):
 
     def error(self, message: str) -> NoReturn:
         """Report a usage error as ``clockplan: <message>`` and exit 2."""
-        self.exit(EXIT_BAD_INPUT, f"clockplan: {one_line(message)}; see '{self.prog} --help'\n")
+        self.exit(EXIT_BAD_INPUT, f"clockplan: {safe_line(message)}; see '{self.prog} --help'\n")
 
 
 def one_line(message: str) -> str:
     """``message`` with its line breaks shown as ``\\n``, so that it stays one line."""
     return "\\n".join(message.splitlines())
+
+
+MAX_MESSAGE = 2000
+"""The longest error line printed; what a message quotes is cut well before this."""
+
+
+_LONG_QUOTE = re.compile(rf"(?<=: )'((?:[^'\\]|\\.){{{MAX_QUOTED + 1},}})'")
+"""A value quoted after a colon, as argparse quotes it ("invalid int value: '999…'"),
+that is too long to repeat."""
+
+
+def safe_line(message: str) -> str:
+    """``message`` as one line that changes no terminal: controls escaped, long quotes cut,
+    length capped."""
+    cut = _LONG_QUOTE.sub(lambda match: repr(shorten(match.group(1))), message)
+    return printable(shorten(one_line(cut), MAX_MESSAGE))
 
 
 def build_parser(only: str | None = None) -> argparse.ArgumentParser:
@@ -86,7 +104,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except ClockplanError as error:
         if args.debug:
             raise
-        print(f"clockplan: {one_line(str(error))}", file=sys.stderr)
+        print(f"clockplan: {safe_line(str(error))}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)
@@ -97,5 +115,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 
 def main_entry() -> None:
-    """Console-script entry point."""
-    sys.exit(main())
+    """Console-script entry point (see :mod:`clockplan.entry`, which guards the imports)."""
+    from clockplan.entry import main_entry as guarded
+
+    guarded()

@@ -41,11 +41,13 @@ from clockplan.interfaces.uart import per_end_allowance
 from clockplan.interfaces.usb import FULL_SPEED_CLOCK, full_speed_rule
 from clockplan.quantities import (
     QuantityError,
+    check_plain_text,
     format_hz,
     parse_frequency,
     parse_number,
     parse_quantity,
 )
+from clockplan.text_safety import quoted
 
 __all__ = [
     "DEFAULT_ALLOWANCE",
@@ -100,9 +102,11 @@ _CHUNK = 1 << 15
 """Candidates screened per numpy pass: small enough that the temporaries stay in cache."""
 
 
-_SHORTHAND = re.compile(r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([^\d\s.]\S*)?\s*$")
+_SHORTHAND = re.compile(
+    r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([^\d\s.]\S*)?\s*$", re.ASCII
+)
 _PREFIXES = {None: "Hz", "k": "kHz", "K": "kHz", "M": "MHz", "G": "GHz"}
-_SPAN = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$")
+_SPAN = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$", re.ASCII)
 
 
 def parse_rate(text: str) -> Fraction:
@@ -110,17 +114,20 @@ def parse_rate(text: str) -> Fraction:
 
     A bare number is hertz (or baud); k, M and G alone stand for kHz, MHz and GHz.
     """
-    match = _SHORTHAND.match(text)
+    match = _SHORTHAND.match(check_plain_text(text))
     if match is None:
-        raise QuantityError(f'{text!r} is not a rate such as 115200, 44.1k or "48 kHz"')
+        raise QuantityError(f'{quoted(text)} is not a rate such as 115200, 44.1k or "48 kHz"')
     number, unit = match.groups()
     hertz_unit = _PREFIXES.get(unit, unit)
     try:
         parse_quantity(f"1 {hertz_unit}", "frequency")
     except QuantityError:
-        raise QuantityError(
-            f"{text!r} has unit {unit!r}; expected Hz, kHz, MHz, GHz or the shorthand k, M, G"
-        ) from None
+        expected = (
+            'write "MHz" for megahertz or "mHz" for millihertz'
+            if unit.lower() == "mhz"
+            else "expected Hz, kHz, MHz, GHz or the shorthand k, M, G"
+        )
+        raise QuantityError(f"{quoted(text)} has unit {quoted(unit)}; {expected}") from None
     if parse_number(number) <= 0:
         raise QuantityError(f"{text!r} is not a positive rate")
     return parse_frequency(f"{number} {hertz_unit}")

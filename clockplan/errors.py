@@ -8,6 +8,7 @@ __all__ = [
     "InputError",
     "ModelTooLargeError",
     "InternalError",
+    "ArgumentTypeError",
 ]
 
 
@@ -38,10 +39,14 @@ class InputError(ValueError, ClockplanError):
         super().__init__(f"{option}: {problem}")
 
 
-class ModelTooLargeError(ClockplanError):
+class ModelTooLargeError(OverflowError, ClockplanError):
     """A scenario would overflow 64-bit integers or explode the enumeration."""
 
 
 class InternalError(RuntimeError, ClockplanError):
     """A bug in clockplan (the solver refused the model, a proved stage left no plan): never
     the user's fault, and never reported as "no plan fits"."""
+
+
+class ArgumentTypeError(TypeError, ClockplanError):
+    """A library function was given an argument of the wrong type (a number for a path …)."""

@@ -21,6 +21,7 @@ from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.render import format_rate
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan
+from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
 
 __all__ = [
@@ -170,7 +171,7 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph:
     plan, evaluation = ranked.plan, ranked.evaluation
     graph = clock_graph(scenario)
     graph.graph.update(
-        file=scenario.file,
+        file=printable(scenario.file),
         rank=ranked.rank,
         status=ranked.status.value,
         worst_share=float(evaluation.worst_share),

@@ -20,6 +20,7 @@ from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.render import format_rate
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan
+from clockplan.text_safety import printable
 
 __all__ = ["DEFAULT_PREFIX", "c_identifier", "header_text"]
 
@@ -39,7 +40,7 @@ _ASCII = str.maketrans({"≤": "<=", "÷": "/", "×": "x", "…": "...", "±": "
 
 def _comment(text: str) -> str:
     """Text safe inside a C block comment: ASCII only, no comment start or end."""
-    ascii_text = text.translate(_ASCII).encode("ascii", "replace").decode("ascii")
+    ascii_text = printable(text).translate(_ASCII).encode("ascii", "replace").decode("ascii")
     safe = " ".join(ascii_text.splitlines())
     while "*/" in safe or "/*" in safe:
         safe = safe.replace("*/", "* /").replace("/*", "/ *")

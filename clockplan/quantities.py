@@ -11,6 +11,9 @@ from collections.abc import Sequence
 from fractions import Fraction
 from typing import Literal
 
+from clockplan.errors import ClockplanError
+from clockplan.text_safety import describe_character, first_odd_character, quoted
+
 __all__ = [
     "QuantityError",
     "parse_frequency",
@@ -25,10 +28,26 @@ __all__ = [
     "format_relative",
     "exact_string",
     "parse_exact_string",
+    "check_plain_text",
+    "parse_temperature_range",
+    "RATIO_STEP",
+    "ratio_up",
+    "ratio_down",
 ]
 
-FREQUENCY_UNITS: dict[str, int] = {"Hz": 1, "kHz": 10**3, "MHz": 10**6, "GHz": 10**9}
-"""Frequency units and their exact factor to hertz."""
+FREQUENCY_UNITS: dict[str, Fraction] = {
+    "mHz": Fraction(1, 1000),
+    "Hz": Fraction(1),
+    "kHz": Fraction(10**3),
+    "MHz": Fraction(10**6),
+    "GHz": Fraction(10**9),
+}
+"""Frequency units and their exact factor to hertz.
+
+Units are matched exactly, then without regard to case, except where case is the meaning:
+"mHz" (milli) and "MHz" (mega) differ only in it, so a unit that folds to "mhz" must be
+written "mHz", or start with a capital M ("MHz", "MHZ") for megahertz; "mhz" is refused.
+"""
 
 RELATIVE_UNITS: dict[str, Fraction] = {
     "ppm": Fraction(1, 10**6),
@@ -49,17 +68,20 @@ CAPACITANCE_UNITS: dict[str, Fraction] = {
 
 Dimension = Literal["frequency", "relative", "capacitance"]
 
-_UNIT_TABLES: dict[str, dict[str, Fraction] | dict[str, int]] = {
+_UNIT_TABLES: dict[str, dict[str, Fraction]] = {
     "frequency": FREQUENCY_UNITS,
     "relative": RELATIVE_UNITS,
     "capacitance": CAPACITANCE_UNITS,
 }
 
 _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.][^\s]*)?\s*$")
-_RANGE = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$")
-_POW2 = re.compile(r"^\s*pow2\s+(\d+)(?:\s*\.\.\s*(\d+))?\s*$")
-_INT = re.compile(r"^\s*[+-]?\d+\s*$")
+_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.][^\s]*)?\s*$", re.ASCII)
+_RANGE = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$", re.ASCII)
+_POW2 = re.compile(r"^\s*pow2\s+(\d+)(?:\s*\.\.\s*(\d+))?\s*$", re.ASCII)
+_INT = re.compile(r"^\s*[+-]?\d+\s*$", re.ASCII)
+_DEGREES = r"([+-]?\d+(?:\.\d+)?)\s*(?:°C|C)?"
+_TEMPERATURES = re.compile(rf"^\s*{_DEGREES}\s*\.\.\s*{_DEGREES}\s*$", re.ASCII)
+"""A temperature range: two plain numbers, each with "°C" or "C" at most once after it."""
 
 MAX_CHOICES = 1_000_000
 """The most integer choices one setting may list; more is a mistake or an explosion."""
@@ -70,12 +92,33 @@ MAX_NUMBER_DIGITS = 100
 exact arithmetic would spend minutes on a number no board needs."""
 LOWEST_FREQUENCY = Fraction(1, 1000)
 """1 mHz: the slowest frequency a scenario may name (a tick of once in 17 minutes)."""
+RATIO_STEP = Fraction(1, 10**9)
+"""The finest relative error a scenario's budgets and allowances keep (1 ppb, 0.001 ppm):
+finer fractions swell the model's integers past 64 bits. Budgets round up to it and
+allowances down, so a plan is never accepted on the rounding."""
 HIGHEST_FREQUENCY = Fraction(10**12)
 """1 THz: the fastest frequency a scenario may name, far above any clock on a board."""
 
 
-class QuantityError(ValueError):
+class QuantityError(ValueError, ClockplanError):
     """A text could not be read as the quantity that was expected."""
+
+
+def check_plain_text(text: str) -> str:
+    """``text``, refused when it holds a control character (a line break, a tab, an escape)
+    or a digit other than 0-9: "１２" and "١٢" look like twelve but are not what was meant."""
+    for character in text:
+        if not character.isprintable():
+            raise QuantityError(
+                f"{quoted(text)} holds {describe_character(character)}; write it on one line "
+                "with spaces only"
+            )
+        if character.isdigit() and not character.isascii():
+            raise QuantityError(
+                f"{quoted(text)} holds {describe_character(character)}; write numbers with "
+                "the digits 0-9"
+            )
+    return text
 
 
 def parse_number(text: str | int | float) -> Fraction:
@@ -85,15 +128,17 @@ def parse_number(text: str | int | float) -> Fraction:
     means one tenth, as the user wrote it.
     """
     if isinstance(text, bool):
-        raise QuantityError(f"{text!r} is not a number")
+        raise QuantityError(f"{_short(text)} is not a number")
     if isinstance(text, int):
         return Fraction(text)
     if isinstance(text, float):
         if text != text or text in (float("inf"), float("-inf")):
-            raise QuantityError(f"{text!r} is not a finite number")
+            raise QuantityError(f"{_short(text)} is not a finite number")
         return _exact(repr(text))
-    if not isinstance(text, str) or not re.fullmatch(rf"\s*{_NUMBER}\s*", text):
-        raise QuantityError(f"{text!r} is not a number")
+    if not isinstance(text, str):
+        raise QuantityError(f"{quoted(text)} is not a number")
+    if not re.fullmatch(rf"\s*{_NUMBER}\s*", check_plain_text(text), re.ASCII):
+        raise QuantityError(f"{quoted(text)} is not a number")
     return _exact(text.strip())
 
 
@@ -113,9 +158,9 @@ def _exact(number: str) -> Fraction:
     return Fraction(number)
 
 
-def _short(text: str) -> str:
-    """``repr(text)``, cut to a readable length for error messages."""
-    return repr(text) if len(text) <= 40 else repr(text[:37] + "...")
+def _short(text: object) -> str:
+    """The value quoted for an error message: escaped and cut to a readable length."""
+    return quoted(text)
 
 
 def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None = None) -> Fraction:
@@ -131,33 +176,44 @@ def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None 
     if isinstance(text, (int, float)) and not isinstance(text, bool):
         number = parse_number(text)
         if bare_unit is None:
-            raise QuantityError(f"{text!r} has no unit; write it like {_example(dimension)}")
+            raise QuantityError(f"{_short(text)} has no unit; write it like {_example(dimension)}")
         return number * table[bare_unit]
     if not isinstance(text, str):
-        raise QuantityError(f"{text!r} is not a {dimension} such as {_example(dimension)}")
-    match = _QUANTITY.match(text)
+        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_example(dimension)}")
+    match = _QUANTITY.match(check_plain_text(text))
     if not match:
-        raise QuantityError(f"{text!r} is not a {dimension} such as {_example(dimension)}")
+        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_example(dimension)}")
     number, unit = match.groups()
     if unit is None:
         if bare_unit is None:
-            raise QuantityError(f"{text!r} has no unit; write it like {_example(dimension)}")
+            raise QuantityError(f"{_short(text)} has no unit; write it like {_example(dimension)}")
         unit = bare_unit
     factor = _lookup_unit(unit, table)
     if factor is None:
-        known = ", ".join(table)
-        raise QuantityError(f"{_short(text)} has unit {_short(unit)}; expected one of {known}")
+        raise QuantityError(_unknown_unit(text, unit, table))
     return _exact(number) * factor
 
 
-def _lookup_unit(unit: str, table: dict[str, Fraction] | dict[str, int]) -> Fraction | None:
+def _lookup_unit(unit: str, table: dict[str, Fraction]) -> Fraction | None:
+    """The unit's factor: exact spelling first, then any case unless case decides the unit."""
     if unit in table:
-        return Fraction(table[unit])
+        return table[unit]
+    if unit.lower() == "mhz" and not unit.startswith("M"):
+        return None  # "mhz": milli or mega? Only "mHz" and a capital M say.
     folded = {name.lower(): factor for name, factor in table.items()}
-    # "mhz" is unambiguous for frequency; "MHz" vs "mHz" is the one trap we refuse.
-    if unit.lower() in folded and unit != "mHz":
-        return Fraction(folded[unit.lower()])
-    return None
+    return folded.get(unit.lower())
+
+
+def _unknown_unit(text: str, unit: str, table: dict[str, Fraction]) -> str:
+    """Why ``unit`` is not known, naming an odd character (a Cyrillic "М" looks like "M")."""
+    known = ", ".join(table)
+    start = f"{_short(text)} has unit {_short(unit)}"
+    odd = first_odd_character(unit)
+    if odd is not None:
+        return f"{start}, whose {describe_character(odd)} is not a Latin letter; expected {known}"
+    if unit.lower() == "mhz":
+        return f'{start}; write "MHz" for megahertz or "mHz" for millihertz'
+    return f"{start}; expected one of {known}"
 
 
 def _example(dimension: Dimension) -> str:
@@ -166,14 +222,17 @@ def _example(dimension: Dimension) -> str:
     ]
 
 
-def parse_frequency(text: object) -> Fraction:
-    """Read a positive frequency with its unit, in hertz."""
-    value = parse_quantity(text, "frequency")
+def parse_frequency(text: object, *, bare_unit: str | None = None) -> Fraction:
+    """Read a frequency with its unit, in hertz, between 1 mHz and 1 THz.
+
+    ``bare_unit`` names the unit a plain number is taken in (a bit rate's "Hz").
+    """
+    value = parse_quantity(text, "frequency", bare_unit=bare_unit)
     if value <= 0:
-        raise QuantityError(f"{text!r} is not a positive frequency")
+        raise QuantityError(f"{_short(text)} is not a positive frequency")
     if not LOWEST_FREQUENCY <= value <= HIGHEST_FREQUENCY:
         raise QuantityError(
-            f"{text!r} is implausible; expected a frequency between 1 mHz and 1 THz"
+            f"{_short(text)} is implausible; expected a frequency between 1 mHz and 1 THz"
         )
     return value
 
@@ -182,28 +241,40 @@ def parse_relative(text: object) -> Fraction:
     """Read a non-negative relative quantity ("20 ppm", "0.5 %") as a plain ratio."""
     value = parse_quantity(text, "relative")
     if value < 0:
-        raise QuantityError(f'{text!r} is negative; give the size of the band, like "20 ppm"')
+        raise QuantityError(f'{_short(text)} is negative; give the size of the band, like "20 ppm"')
     if value > 1:
-        raise QuantityError(f"{text!r} is more than 100 %; expected a share between 0 and 100 %")
+        raise QuantityError(
+            f"{_short(text)} is more than 100 %; expected a share between 0 and 100 %"
+        )
     return value
+
+
+def ratio_up(value: Fraction) -> Fraction:
+    """``value`` rounded up to a whole number of :data:`RATIO_STEP` (an error budget)."""
+    return -((-value) // RATIO_STEP) * RATIO_STEP
+
+
+def ratio_down(value: Fraction) -> Fraction:
+    """``value`` rounded down to a whole number of :data:`RATIO_STEP` (an allowance)."""
+    return (value // RATIO_STEP) * RATIO_STEP
 
 
 def parse_capacitance(text: object) -> Fraction:
     """Read a non-negative capacitance with its unit, in farads."""
     value = parse_quantity(text, "capacitance")
     if value < 0:
-        raise QuantityError(f"{text!r} is a negative capacitance")
+        raise QuantityError(f"{_short(text)} is a negative capacitance")
     return value
 
 
 def parse_frequency_range(text: object) -> tuple[Fraction, Fraction]:
     """Read ``"1 MHz .. 2 MHz"`` to ``(low, high)`` in hertz, low <= high."""
-    if not isinstance(text, str) or not _RANGE.match(text):
-        raise QuantityError(f'{text!r} is not a frequency range such as "1 MHz .. 2 MHz"')
+    if not isinstance(text, str) or not _RANGE.match(check_plain_text(text)):
+        raise QuantityError(f'{_short(text)} is not a frequency range such as "1 MHz .. 2 MHz"')
     low_text, high_text = _RANGE.match(text).groups()  # type: ignore[union-attr]
     low, high = parse_frequency(low_text), parse_frequency(high_text)
     if low > high:
-        raise QuantityError(f"{text!r} runs backwards; write the low end first")
+        raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
     return low, high
 
 
@@ -219,29 +290,31 @@ def parse_integer_choices(value: object, *, minimum: int = 1) -> range | tuple[i
     (1, 2, 4, 8)
     """
     if isinstance(value, bool):
-        raise QuantityError(f'{value!r} is not a whole number, a list, "a..b" or "pow2 a..b"')
+        raise QuantityError(f'{_short(value)} is not a whole number, a list, "a..b" or "pow2 a..b"')
     if isinstance(value, int):
         values: Sequence[int] = [value]
     elif isinstance(value, list):
         if not value:
             raise QuantityError("an empty list allows nothing; give at least one value")
         if not all(isinstance(v, int) and not isinstance(v, bool) for v in value):
-            raise QuantityError(f"{value!r} must list whole numbers only")
+            raise QuantityError(f"{_short(value)} must list whole numbers only")
         values = value
     elif isinstance(value, str):
         values = _parse_integer_text(value)
     else:
-        raise QuantityError(f'{value!r} is not a whole number, a list, "a..b" or "pow2 a..b"')
-    if min(values) < minimum:
-        raise QuantityError(f"{min(values)} is below the smallest allowed value {minimum}")
-    if max(values) > MAX_CHOICE:
-        raise QuantityError(f"{max(values)} goes past 2**62, more than any divider holds")
+        raise QuantityError(f'{_short(value)} is not a whole number, a list, "a..b" or "pow2 a..b"')
+    low, high = (values[0], values[-1]) if isinstance(values, range) else (min(values), max(values))
+    if low < minimum:
+        raise QuantityError(f"{low} is below the smallest allowed value {minimum}")
+    if high > MAX_CHOICE:
+        raise QuantityError(f"{high} goes past 2**62, more than any divider holds")
     if isinstance(values, range):
         return values
     return tuple(sorted(set(values)))
 
 
 def _parse_integer_text(text: str) -> Sequence[int]:
+    check_plain_text(text)
     if len(text) > MAX_NUMBER_DIGITS:
         raise QuantityError(f'{_short(text)} is too long for a whole number, "a..b" or "pow2 a..b"')
     pow2 = _POW2.match(text)
@@ -249,21 +322,43 @@ def _parse_integer_text(text: str) -> Sequence[int]:
         first = int(pow2.group(1))
         last = int(pow2.group(2)) if pow2.group(2) is not None else first
         if first > last:
-            raise QuantityError(f"{text!r} runs backwards; write the low end first")
+            raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
         if last > 62:
-            raise QuantityError(f"{text!r} goes past 2**62, more than any divider holds")
+            raise QuantityError(f"{_short(text)} goes past 2**62, more than any divider holds")
         return [2**k for k in range(first, last + 1)]
     span = _RANGE.match(text)
     if span and _INT.match(span.group(1)) and _INT.match(span.group(2)):
         low, high = int(span.group(1)), int(span.group(2))
         if low > high:
-            raise QuantityError(f"{text!r} runs backwards; write the low end first")
+            raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
         if high - low + 1 > MAX_CHOICES:
-            raise QuantityError(f"{text!r} allows {high - low + 1} values; at most {MAX_CHOICES}")
+            raise QuantityError(
+                f"{_short(text)} allows {high - low + 1} values; at most {MAX_CHOICES}"
+            )
         return range(low, high + 1)
     if _INT.match(text):
         return [int(text)]
-    raise QuantityError(f'{text!r} is not a whole number, "a..b" or "pow2 a..b"')
+    raise QuantityError(f'{_short(text)} is not a whole number, "a..b" or "pow2 a..b"')
+
+
+def parse_temperature_range(text: object) -> tuple[Fraction, Fraction]:
+    """Read ``"-20..70"`` or ``"-20 °C .. 70 °C"`` to (low, high) in °C, low <= high.
+
+    A Unicode minus sign (−) reads as "-"; anything else past the grammar is refused.
+    """
+    if not isinstance(text, str):
+        raise QuantityError(f'{_short(text)} is not a range in °C such as "-20..70"')
+    match = _TEMPERATURES.match(check_plain_text(text).replace("\u2212", "-"))
+    if match is None:
+        raise QuantityError(f'{_short(text)} is not a range in °C such as "-20..70"')
+    low, high = _exact(match.group(1)), _exact(match.group(2))
+    if low > high:
+        raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
+    if low < -273 or high > 1000:
+        raise QuantityError(
+            f"{_short(text)} is not a plausible temperature range in °C (-273..1000)"
+        )
+    return low, high
 
 
 def exact_string(value: Fraction | int) -> str:
@@ -289,7 +384,14 @@ def format_hz(value: Fraction | int, *, digits: int = 7) -> str:
     return f"{_trim(value, digits)} Hz"
 
 
+LARGEST_SHOWN_EXACTLY = 10**15
+"""Past this a value is shown in powers of ten: its digits no longer help (and a float or a
+decimal string of it may not even exist)."""
+
+
 def _trim(value: Fraction, digits: int) -> str:
+    if abs(value) >= LARGEST_SHOWN_EXACTLY:
+        return _scientific(value, digits)
     if value.denominator == 1:
         return str(value.numerator)
     text = f"{float(value):.{digits}f}".rstrip("0").rstrip(".")
@@ -297,9 +399,36 @@ def _trim(value: Fraction, digits: int) -> str:
     return text if exact else f"{float(value):.{digits}g}".rstrip("0").rstrip(".") + "…"
 
 
+def _scientific(value: Fraction, digits: int) -> str:
+    """``value`` as ``"1.234567e20"``, rounded to ``digits`` significant digits ("…" when
+    rounded), for a value of any size: only integers are used, never a float."""
+    magnitude = abs(value)
+    # 10**exponent <= magnitude < 10**(exponent + 1), from the bit lengths, then corrected.
+    bits = magnitude.numerator.bit_length() - magnitude.denominator.bit_length()
+    exponent = max(0, int(bits * 0.30102999566398120) - 1)
+    while magnitude >= Fraction(10) ** (exponent + 1):
+        exponent += 1
+    scaled = magnitude * 10 ** (digits - 1) / Fraction(10) ** exponent
+    mantissa = round(scaled)
+    if mantissa == 10**digits:  # 9.9999999 rounded up to 10
+        mantissa, exponent = mantissa // 10, exponent + 1
+    shown = str(mantissa)
+    text = f"{shown[0]}.{shown[1:]}".rstrip("0").rstrip(".")
+    sign = "-" if value < 0 else ""
+    return f"{sign}{text}e{exponent}" + ("" if scaled == mantissa else "…")
+
+
+def _finite(value: Fraction | float) -> float:
+    """``float(value)``, saturating at ±inf instead of raising for values past a float."""
+    try:
+        return float(value)
+    except OverflowError:
+        return float("inf") if value > 0 else float("-inf")
+
+
 def format_ppm(value: Fraction | float, *, signed: bool = False) -> str:
     """Show a ratio in ppm, e.g. ``format_ppm(Fraction(1, 400))`` -> ``"2500 ppm"``."""
-    ppm = float(value) * 1e6
+    ppm = _finite(value) * 1e6
     text = f"{ppm:+.3f}" if signed else f"{ppm:.3f}"
     text = text.rstrip("0").rstrip(".")
     return f"{text} ppm"
@@ -307,8 +436,8 @@ def format_ppm(value: Fraction | float, *, signed: bool = False) -> str:
 
 def format_relative(value: Fraction | float, *, signed: bool = False) -> str:
     """Show a ratio in ppm below 0.1 % and in percent above, as engineers write them."""
-    if abs(float(value)) >= 1e-3:
-        percent = float(value) * 100
+    if abs(_finite(value)) >= 1e-3:
+        percent = _finite(value) * 100
         text = f"{percent:+.4f}" if signed else f"{percent:.4f}"
         return text.rstrip("0").rstrip(".") + " %"
     return format_ppm(value, signed=signed)

@@ -10,6 +10,7 @@ from rich.text import Text
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import STATUS_WORDS, Explanation, RankedPlan, SearchResult
+from clockplan.text_safety import printable
 
 __all__ = [
     "ranking_table",
@@ -67,7 +68,7 @@ def ranking_table(result: SearchResult) -> Table:
     chosen = [source.name for source in result.scenario.sources if len(source.candidates) > 1]
     caption = ", ".join(f"{source.name} {format_hz(source.candidates[0])}" for source in fixed)
     table = Table(
-        title=f"{result.scenario.title}: ranked clock plans",
+        title=Text(f"{printable(result.scenario.title)}: ranked clock plans"),
         title_justify="left",
         caption=f"fixed oscillators: {caption}" if caption else None,
         caption_justify="left",

@@ -15,6 +15,7 @@ from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.render import format_rate
 from clockplan.result import STATUS_WORDS, RankedPlan, SearchResult, Status
 from clockplan.scenario import Scenario
+from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
 
 __all__ = ["report_text", "status_words", "CAUTIONS"]
@@ -41,7 +42,7 @@ def status_words(status: Status) -> str:
 
 def _md(text: object) -> str:
     """Text safe in Markdown prose and table cells."""
-    return re.sub(r"([\\`*_\[\]<>|#])", r"\\\1", str(text)).replace("\n", " ")
+    return re.sub(r"([\\`*_\[\]<>|#])", r"\\\1", printable(str(text)))
 
 
 def _share(check: RateCheck) -> str:

@@ -7,7 +7,10 @@ key path and what was expected. Structural checks (unknown ``from``, loops) live
 
 from __future__ import annotations
 
+import math
+import os
 import re
+import stat
 import tomllib
 from dataclasses import dataclass
 from fractions import Fraction
@@ -17,9 +20,9 @@ from pathlib import Path
 from clockplan._fields import Fields, hint
 from clockplan.catalog import catalog_frequencies
 from clockplan.circuits import parse_circuit_quantity
-from clockplan.errors import ScenarioError
+from clockplan.errors import ArgumentTypeError, ScenarioError
 from clockplan.interfaces import Peripheral, read_peripheral
-from clockplan.interfaces.base import Divisors
+from clockplan.interfaces.base import Divisors, largest
 from clockplan.quantities import (
     HIGHEST_FREQUENCY,
     LOWEST_FREQUENCY,
@@ -33,6 +36,8 @@ from clockplan.quantities import (
     parse_number,
     parse_quantity,
     parse_relative,
+    parse_temperature_range,
+    ratio_up,
 )
 from clockplan.sources import (
     SOURCE_KINDS,
@@ -46,6 +51,7 @@ from clockplan.sources import (
     load_pulling,
     rc_oscillator,
 )
+from clockplan.text_safety import quoted
 
 __all__ = [
     "Pll",
@@ -57,14 +63,21 @@ __all__ = [
     "default_scenario_path",
     "MAX_CANDIDATES",
     "RANKING_GOALS",
+    "MAX_RATES",
 ]
 
 RANKING_GOALS = ("worst-share", "cost", "fastest", "ceilings")
 """What ``rank_by`` may put first, in the default ranking order."""
 MAX_CANDIDATES = 2_000_000
-"""The most candidate frequencies one source may offer the search."""
+"""The most candidate frequencies the sources together may offer the search."""
+CANDIDATES_TOGETHER = "the sources offer {} candidate frequencies together"
 MAX_ITEMS = 1000
 """The most entries one section (sources, plls, dividers, muxes, peripherals) may hold."""
+MAX_RATES = 1000
+"""The most rates (baud rates, bit rates, clocks …) all peripherals together may ask for;
+each is a requirement of the search, and a model of tens of thousands never finishes."""
+MAX_NAME_LENGTH = 64
+"""The longest name of a clock or peripheral: it becomes part of settings keys and C names."""
 MAX_FILE_BYTES = 4 * 2**20
 """The largest scenario file read: a real one is a few kilobytes, /dev/zero is endless."""
 MAX_YEARS = 100
@@ -135,6 +148,45 @@ class Scenario:
     worst share of an allowance, the cost of the oscillators in use, the clocks marked
     "fastest", the rates under a ceiling."""
 
+    def __post_init__(self) -> None:
+        """Check a scenario built by hand as the loader checks a file, so that the search
+        and the evaluator only ever meet a well-formed board (or raise a ScenarioError)."""
+        where = self.file if isinstance(self.file, str) else "<scenario>"
+        for key, value, kind in (
+            ("title", self.title, str),
+            ("file", self.file, str),
+            ("conditions", self.conditions, Conditions),
+            ("rank_by", self.rank_by, tuple),
+        ):
+            if not isinstance(value, kind):
+                raise ScenarioError(where, key, f"expected {kind.__name__}, got {_type(value)}")
+        if sorted(map(str, self.rank_by)) != sorted(RANKING_GOALS):
+            known = ", ".join(RANKING_GOALS)
+            raise ScenarioError(where, "rank_by", f"expected each of {known} once, in any order")
+        for section, items, kind in (
+            ("sources", self.sources, Source),
+            ("plls", self.plls, Pll),
+            ("dividers", self.dividers, Divider),
+            ("muxes", self.muxes, Mux),
+            ("peripherals", self.peripherals, Peripheral),
+        ):
+            if not isinstance(items, tuple):
+                raise ScenarioError(where, section, f"expected a tuple, got {_type(items)}")
+            for item in items:
+                if not isinstance(item, kind):
+                    raise ScenarioError(
+                        where, section, f"expected {kind.__name__} entries, got {_type(item)}"
+                    )
+        if not self.sources:
+            raise ScenarioError(where, "sources", "is empty; a scenario needs an oscillator")
+        for source in self.sources:
+            if not source.candidates:
+                raise ScenarioError(where, f"sources.{source.name}.choose", "offers no frequency")
+        _check_unique_names(self)
+        from clockplan.tree import check_structure
+
+        check_structure(self)
+
     def source(self, name: str) -> Source:
         """The source called ``name``."""
         return next(source for source in self.sources if source.name == name)
@@ -153,14 +205,23 @@ def default_scenario_path() -> Path:
 
 def load_scenario(path: str | Path) -> Scenario:
     """Read and check a scenario file; raise :class:`ScenarioError` on any mistake."""
+    if not isinstance(path, (str, Path)):
+        raise ArgumentTypeError(
+            f"load_scenario: expected a path (str or Path), got {type(path).__name__}"
+        )
+    if str(path) == "":
+        raise ScenarioError('""', "", "the file name is empty; give a scenario file")
     return parse_scenario(_read_text(Path(path)), str(path))
 
 
 def _read_text(path: Path) -> str:
-    """The file's text (UTF-8, a byte-order mark allowed), refusing what is no scenario file."""
+    """The file's text (UTF-8, a byte-order mark allowed), refusing what is no scenario file.
+
+    The file is opened without blocking and must be a regular file: a FIFO or a device
+    would otherwise wait for a writer, or never end.
+    """
     try:
-        with path.open("rb") as stream:
-            data = stream.read(MAX_FILE_BYTES + 1)
+        descriptor = os.open(path, os.O_RDONLY | os.O_NONBLOCK | getattr(os, "O_CLOEXEC", 0))
     except FileNotFoundError:
         raise ScenarioError(str(path), "", "no such file") from None
     except IsADirectoryError:
@@ -169,6 +230,20 @@ def _read_text(path: Path) -> str:
         raise ScenarioError(str(path), "", f"cannot be read ({error.strerror or error})") from None
     except ValueError as error:  # a path holding a NUL character
         raise ScenarioError(str(path), "", f"cannot be read ({error})") from None
+    mode = os.fstat(descriptor).st_mode
+    if not stat.S_ISREG(mode):
+        os.close(descriptor)
+        if stat.S_ISDIR(mode):
+            raise ScenarioError(str(path), "", "is a directory; expected a scenario file")
+        problem = f"is {_file_type(mode)}, not a regular file; expected a scenario file"
+        raise ScenarioError(str(path), "", problem)
+    with os.fdopen(descriptor, "rb") as stream:
+        try:
+            data = stream.read(MAX_FILE_BYTES + 1)
+        except OSError as error:
+            raise ScenarioError(
+                str(path), "", f"cannot be read ({error.strerror or error})"
+            ) from None
     if len(data) > MAX_FILE_BYTES:
         raise ScenarioError(
             str(path), "", f"is larger than {MAX_FILE_BYTES // 2**20} MiB; expected a scenario file"
@@ -182,8 +257,25 @@ def _read_text(path: Path) -> str:
         ) from None
 
 
+def _file_type(mode: int) -> str:
+    """What kind of non-regular file ``mode`` describes, for the message that refuses it."""
+    kinds = (
+        (stat.S_ISFIFO, "a FIFO (named pipe)"),
+        (stat.S_ISCHR, "a character device"),
+        (stat.S_ISBLK, "a block device"),
+        (stat.S_ISSOCK, "a socket"),
+    )
+    return next((name for test, name in kinds if test(mode)), "a special file")
+
+
 def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     """Read a scenario from TOML text; ``file`` names it in error messages."""
+    if not isinstance(file, str):
+        raise ArgumentTypeError(f"parse_scenario: file must be a str, got {type(file).__name__}")
+    if not isinstance(text, str):
+        raise ArgumentTypeError(
+            f"parse_scenario: expected the TOML text as a str, got {type(text).__name__}"
+        )
     try:
         document = tomllib.loads(text)
     except tomllib.TOMLDecodeError as error:
@@ -200,23 +292,35 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     title = top.take_str("title", Path(file).stem)
     rank_by = top.take("rank_by", _ranking, RANKING_GOALS)
     conditions = _read_conditions(top)
-    sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions))
+    _count_candidate_ranges(top)
+    candidates = _Budget(MAX_CANDIDATES, CANDIDATES_TOGETHER)
+    sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions, candidates))
     if not sources:
         raise top.error("sources", "is missing; a scenario needs at least one oscillator")
-    _check_candidate_total(sources, file)
     plls = _read_section(top, "plls", _read_pll)
     dividers = _read_section(top, "dividers", _read_divider)
     muxes = _read_section(top, "muxes", _read_mux)
-    peripherals = _read_section(top, "peripherals", _read_peripheral)
+    rates = _Budget(MAX_RATES, "the peripherals ask for {} rates together")
+    peripherals = _read_section(top, "peripherals", lambda f, n: _read_peripheral(f, n, rates))
     top.finish()
-    scenario = Scenario(
-        title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by
-    )
-    _check_unique_names(scenario)
-    from clockplan.tree import check_structure
+    return Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by)
 
-    check_structure(scenario)
-    return scenario
+
+class _Budget:
+    """A count the items of a scenario share (candidate frequencies, rates), spent as read."""
+
+    def __init__(self, limit: int, problem: str) -> None:
+        self.limit = limit
+        self.problem = problem
+        """What is refused, with ``{}`` for the total asked for."""
+        self.spent = 0
+
+    def spend(self, count: int, file: str, key: str) -> None:
+        """Count ``count`` more, or refuse at ``key`` when the total would pass the limit."""
+        if self.spent + count > self.limit:
+            total = self.spent + count
+            raise ScenarioError(file, key, f"{self.problem.format(total)}; at most {self.limit}")
+        self.spent += count
 
 
 def _ranking(value: object) -> tuple[str, ...]:
@@ -252,6 +356,8 @@ def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-d
             raise table.error(
                 name, "names must start with a letter and hold only letters, digits and _"
             )
+        if len(name) > MAX_NAME_LENGTH:
+            raise table.error(name, f"is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
         fields = table.sub(name)
         items.append(read(fields, name))
         fields.finish()
@@ -265,7 +371,7 @@ def _read_conditions(top: Fields) -> Conditions:
         return Conditions()
     fields = top.sub("conditions")
     default = Conditions()
-    temperature = fields.take("temperature", _temperature_range, default.temperature)
+    temperature = fields.take("temperature", parse_temperature_range, default.temperature)
     years = fields.take("years", parse_number, default.years)
     if not 0 <= years <= MAX_YEARS:
         raise fields.error("years", f"{years} is outside 0..{MAX_YEARS}; expected years of service")
@@ -273,25 +379,15 @@ def _read_conditions(top: Fields) -> Conditions:
     return Conditions(temperature, years)
 
 
-def _temperature_range(value: object) -> tuple[Fraction, Fraction]:
-    if not isinstance(value, str) or ".." not in value:
-        raise QuantityError(f'{value!r} is not a range in °C such as "-20..70"')
-    low_text, high_text = value.replace("°C", "").replace("C", "").split("..", 1)
-    low, high = parse_number(low_text.strip()), parse_number(high_text.strip())
-    if low > high:
-        raise QuantityError(f"{value!r} runs backwards; write the low end first")
-    if low < -273 or high > 1000:
-        raise QuantityError(f"{value!r} is not a plausible temperature range in °C")
-    return low, high
-
-
-def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
+def _read_source(fields: Fields, name: str, conditions: Conditions, budget: _Budget) -> Source:
     kind_name = fields.take_str("kind", choices=tuple(SOURCE_KINDS))
     kind = SOURCE_KINDS[kind_name]
     if isinstance(fields.table.get("choose"), dict):
-        candidates: tuple[Fraction, ...] | None = _candidate_range(fields.sub("choose"))
+        candidates: tuple[Fraction, ...] | None = _candidate_range(fields.sub("choose"), budget)
     else:
         candidates = fields.take("choose", _candidates, None)
+        if candidates is not None:
+            budget.spend(len(candidates), fields.file, fields.key("choose"))
     default_tolerance = kind.tolerance
     if kind_name in ("rc", "lc"):
         built = _read_parts(fields, kind_name)
@@ -319,7 +415,8 @@ def _read_source(fields: Fields, name: str, conditions: Conditions) -> Source:
     if kind_name in ("crystal", "tuning-fork") and fields.has("circuit"):
         pulling = _read_circuit(fields.sub("circuit"))
     cost = fields.take("cost", _cost, None)
-    return Source(name, kind_name, candidates, tolerance, stability, aging, pulling, cost)
+    terms = (ratio_up(term) for term in (tolerance, stability, aging, pulling))
+    return Source(name, kind_name, candidates, *terms, cost)
 
 
 def _per_square_degree(value: object) -> Fraction:
@@ -342,12 +439,22 @@ def _degrees(value: object) -> Fraction:
     return degrees
 
 
+COST_DECIMALS = 6
+"""A cost may have at most this many decimal places: the search adds costs × counts on whole
+numbers, so their common denominator must stay small (10**6 · 10**9 · 1000 sources < 2**62)."""
+
+
 def _cost(value: object) -> Fraction:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise QuantityError(f"{value!r} is not a cost; give a plain number like 0.35")
+        raise QuantityError(f"{quoted(value)} is not a cost; give a plain number like 0.35")
     cost = parse_number(value)
     if cost < 0 or cost > 10**9:
-        raise QuantityError(f"{value!r} is not a cost between 0 and 10**9")
+        raise QuantityError(f"{quoted(value)} is not a cost between 0 and 10**9")
+    if (cost * 10**COST_DECIMALS).denominator != 1:
+        raise QuantityError(
+            f"{quoted(value)} has more than {COST_DECIMALS} decimal places; costs are counted "
+            "in millionths, so round it"
+        )
     return cost
 
 
@@ -358,15 +465,17 @@ def _read_parts(fields: Fields, kind: str) -> ComponentFrequency:
     parts = fields.sub("parts")
     capacitance = parts.take("capacitance", _positive_capacitance)
     capacitor_tolerance = parts.take("capacitor_tolerance", _part_tolerance, Fraction(5, 100))
-    try:
+    if kind == "rc":
+        r1 = parts.take("r1", _resistance)
+        r2 = parts.take("r2", _resistance)
+        resistor_tolerance = parts.take("resistor_tolerance", _part_tolerance, Fraction(1, 100))
+    else:
+        inductance = parts.take("inductance", _inductance)
+        inductor_tolerance = parts.take("inductor_tolerance", _part_tolerance, Fraction(5, 100))
+    try:  # only the formulas raise here; a bad key was already located above
         if kind == "rc":
-            r1 = parts.take("r1", _resistance)
-            r2 = parts.take("r2", _resistance)
-            resistor_tolerance = parts.take("resistor_tolerance", _part_tolerance, Fraction(1, 100))
             built = rc_oscillator(r1, r2, capacitance, resistor_tolerance, capacitor_tolerance)
         else:
-            inductance = parts.take("inductance", _inductance)
-            inductor_tolerance = parts.take("inductor_tolerance", _part_tolerance, Fraction(5, 100))
             built = lc_oscillator(inductance, capacitance, inductor_tolerance, capacitor_tolerance)
     except ValueError as error:
         raise fields.error("parts", str(error)) from None
@@ -439,18 +548,42 @@ def _candidates(value: object) -> tuple[Fraction, ...]:
     raise QuantityError('expected "catalog", a list of frequencies or { from, to, step }')
 
 
-def _candidate_range(fields: Fields) -> tuple[Fraction, ...]:
-    """Candidates from ``choose = { from = "4 MHz", to = "26 MHz", step = "1 kHz" }``."""
+def _range_count(fields: Fields) -> tuple[Fraction, Fraction, int]:
+    """The start, step and count of ``choose = { from, to, step }``, refusing a huge range."""
     low = fields.take("from", parse_frequency)
     high = fields.take("to", parse_frequency)
     step = fields.take("step", parse_frequency)
     fields.finish()
     if low > high:
         raise fields.error("to", f"{format_hz(high)} is below from = {format_hz(low)}")
-    count = (high - low) // step + 1
+    count = int((high - low) // step) + 1
     if count > MAX_CANDIDATES:
         raise fields.error("step", f"the range holds {count} frequencies; at most {MAX_CANDIDATES}")
-    return tuple(low + step * k for k in range(int(count)))
+    return low, step, count
+
+
+def _count_candidate_ranges(top: Fields) -> None:
+    """Refuse stepped candidate ranges that pass the limit together, before building any:
+    two million ``Fraction`` objects take seconds to make."""
+    sources = top.table.get("sources")
+    if not isinstance(sources, dict):
+        return
+    section = Fields(sources, file=top.file, path="sources")
+    budget = _Budget(MAX_CANDIDATES, CANDIDATES_TOGETHER)
+    for name, table in sources.items():
+        if isinstance(table, dict) and isinstance(table.get("choose"), dict):
+            choose = Fields(table["choose"], file=top.file, path=f"{section.key(name)}.choose")
+            budget.spend(_range_count(choose)[2], choose.file, choose.path)
+
+
+def _candidate_range(fields: Fields, budget: _Budget) -> tuple[Fraction, ...]:
+    """Candidates from ``choose = { from = "4 MHz", to = "26 MHz", step = "1 kHz" }``."""
+    low, step, count = _range_count(fields)
+    budget.spend(count, fields.file, fields.path)
+    # On a common denominator the candidates are whole numbers over it, cheaper to build.
+    denominator = math.lcm(low.denominator, step.denominator)
+    first, stride = int(low * denominator), int(step * denominator)
+    return tuple(Fraction(first + stride * k, denominator) for k in range(count))
 
 
 def _read_pll(fields: Fields, name: str) -> Pll:
@@ -482,18 +615,19 @@ def _read_mux(fields: Fields, name: str) -> Mux:
     return Mux(name, inputs, maximum)
 
 
-def _read_peripheral(fields: Fields, name: str) -> Peripheral:
+def _read_peripheral(fields: Fields, name: str, budget: _Budget) -> Peripheral:
     """Read one peripheral by its kind; refuse divisors no 64-bit model can hold."""
     peripheral = read_peripheral(fields, name)
+    budget.spend(len(peripheral.requirements), fields.file, fields.path)
     for requirement in peripheral.requirements:
         sets = [option.divisors for option in requirement.choices]
         sets += [values for _, values in requirement.stages]
-        largest = max(max(values) for values in sets)
-        if largest > MAX_CHOICE:
+        widest = max(largest(values) for values in sets)
+        if widest > MAX_CHOICE:
             raise ScenarioError(
                 fields.file,
                 fields.path,
-                f"{requirement.label}: its divisor reaches {largest}, past 2**62; narrow the "
+                f"{requirement.label}: its divisor reaches {widest}, past 2**62; narrow the "
                 "ranges that multiply into it",
             )
     return peripheral
@@ -507,18 +641,8 @@ def _name_list(value: object) -> tuple[str, ...]:
     return tuple(value)
 
 
-def _check_candidate_total(sources: tuple[Source, ...], file: str) -> None:
-    """Refuse sources that together offer more candidates than one source may."""
-    total = 0
-    for source in sources:
-        total += len(source.candidates)
-        if total > MAX_CANDIDATES:
-            raise ScenarioError(
-                file,
-                f"sources.{source.name}.choose",
-                f"the sources offer {total} candidate frequencies together; at most "
-                f"{MAX_CANDIDATES}",
-            )
+def _type(value: object) -> str:
+    return type(value).__name__
 
 
 def _check_unique_names(scenario: Scenario) -> None:

@@ -12,6 +12,7 @@ import networkx as nx
 
 from clockplan._fields import hint
 from clockplan.errors import ScenarioError
+from clockplan.text_safety import printable
 
 if TYPE_CHECKING:
     from clockplan.scenario import Scenario
@@ -21,7 +22,7 @@ __all__ = ["clock_graph", "check_structure", "evaluation_order", "feeding_source
 
 def clock_graph(scenario: Scenario) -> nx.DiGraph:
     """Every node of the scenario with a ``role`` attribute, and an edge per ``from``."""
-    graph = nx.DiGraph(title=scenario.title)
+    graph = nx.DiGraph(title=printable(scenario.title))
     for source in scenario.sources:
         graph.add_node(source.name, role="source")
     for pll in scenario.plls:

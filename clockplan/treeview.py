@@ -27,6 +27,7 @@ from clockplan.quantities import format_hz, format_relative
 from clockplan.render import format_rate
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan
+from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
 
 __all__ = ["plan_tree", "verdict_text", "legend"]
@@ -60,7 +61,7 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
     peripherals = {peripheral.name: peripheral for peripheral in scenario.peripherals}
     root = Tree(
         Text.assemble(
-            (scenario.title, "bold"),
+            (printable(scenario.title), "bold"),
             f"  plan {ranked.rank} ({ranked.status.value})  worst share ",
             (f"{float(evaluation.worst_share) * 100:.2f} %", "bold"),
         ),

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import io
 import json
+import os
+import stat
 import xml.etree.ElementTree as ET
 
 import networkx as nx
@@ -12,6 +14,7 @@ from rich.console import Console
 
 import clockplan.commands.show as show
 from clockplan.cli import main
+from clockplan.scenario import default_scenario_path
 from clockplan.treeview import plan_tree
 from tests.test_graphs import bench_ranked
 
@@ -138,3 +141,48 @@ def test_tree_hangs_a_mux_under_its_chosen_input_and_marks_every_verdict():
     assert any(line.strip(" │├└─").startswith("[FAIL] 48 MHz kernel") for line in lines)
     assert any(line.strip(" │├└─").startswith("[at risk] 28 MHz") for line in lines)
     assert any("divisor_9600 = 182.75" in line for line in lines)
+
+
+def _refused_before_searching(capsys, monkeypatch, *argv):
+    monkeypatch.setattr(show, "run_search", lambda *a, **k: pytest.fail("searched"))
+    status, out, err = run_cli(capsys, "show", *argv)
+    assert (status, out) == (2, "")
+    assert err.count("\n") == 1 and "Traceback" not in err
+    return err
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_force_refuses_to_replace_a_fifo(capsys, tmp_path, monkeypatch):
+    fifo = tmp_path / "tree.dot"
+    os.mkfifo(fifo)
+    err = _refused_before_searching(capsys, monkeypatch, "--dot", str(fifo), "--force")
+    assert f"clockplan: --dot: {fifo} is a FIFO (named pipe)" in err
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
+
+
+def test_force_refuses_to_replace_a_device(capsys, monkeypatch):
+    err = _refused_before_searching(capsys, monkeypatch, "--svg", "/dev/null", "--force")
+    assert "clockplan: --svg: /dev/null is a character device" in err
+
+
+def test_force_refuses_to_replace_the_input_scenario(capsys, tmp_path, monkeypatch):
+    board = tmp_path / "board.toml"
+    board.write_bytes(default_scenario_path().read_bytes())
+    err = _refused_before_searching(
+        capsys, monkeypatch, str(board), "--report", str(board), "--force"
+    )
+    assert f"--report: {board} is the scenario being read" in err
+    assert board.read_bytes() == default_scenario_path().read_bytes()
+
+
+def test_a_trailing_separator_is_a_folder_not_a_file_name(capsys, tmp_path, monkeypatch):
+    target = f"{tmp_path / 'newdir'}{os.sep}"
+    err = _refused_before_searching(capsys, monkeypatch, "--svg", target, "--force")
+    assert "ends with a separator, so it names a folder" in err
+    assert not (tmp_path / "newdir").exists()
+
+
+@pytest.mark.parametrize("top", ["0", "-5"])
+def test_top_below_one_is_refused(capsys, monkeypatch, top):
+    err = _refused_before_searching(capsys, monkeypatch, "--top", top)
+    assert err == f"clockplan: --top: {top} is not a positive count of plans\n"

@@ -46,7 +46,7 @@ def assert_one_line_about(err: str, path: Path | str) -> None:
 
 
 def test_there_is_a_file_for_each_class_of_mistake():
-    assert len(FILES) >= 35
+    assert len(FILES) >= 150
 
 
 @pytest.mark.parametrize("path", FILES, ids=lambda path: path.stem)
@@ -68,6 +68,7 @@ def test_malformed_file_is_one_located_line_and_exit_2(path, capsys):
         assert re.search(rf"\b{key}\b", err), err
     else:
         assert f"{path}: {key}: " in err
+    assert err.count(f"{path}:") == 1, err  # the file and key are named once
     assert path.read_bytes() == before
 
 
@@ -124,11 +125,53 @@ def test_an_unreadable_file_is_refused(tmp_path, capsys):
 
 
 @pytest.mark.skipif(not Path("/dev/zero").exists(), reason="needs /dev/zero")
-def test_an_endless_file_is_refused_without_hanging(capsys):
+def test_an_endless_device_is_refused_without_reading_it(capsys):
     status, _, err = run_plan("/dev/zero", capsys)
     assert status == EXIT_BAD_INPUT
     assert_one_line_about(err, "/dev/zero")
-    assert "larger than" in err
+    assert "is a character device, not a regular file" in err
+
+
+def test_a_file_past_the_size_limit_is_refused(tmp_path, capsys):
+    path = tmp_path / "huge.toml"
+    with path.open("wb") as stream:  # sparse: no disk is spent on it
+        stream.truncate(5 * 2**20)
+    status, _, err = run_plan(path, capsys)
+    assert status == EXIT_BAD_INPUT
+    assert_one_line_about(err, path)
+    assert "is larger than 4 MiB" in err
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_a_fifo_is_refused_at_once_instead_of_waiting_for_a_writer(tmp_path):
+    # In a child process with a deadline: were the FIFO opened for reading, it would block.
+    path = tmp_path / "board.toml"
+    os.mkfifo(path)
+    done = subprocess.run(
+        [sys.executable, "-m", "clockplan", "check", str(path)],
+        capture_output=True,
+        text=True,
+        timeout=120,
+        stdin=subprocess.DEVNULL,
+    )
+    assert done.returncode == EXIT_BAD_INPUT
+    assert_one_line_about(done.stderr, path)
+    assert "is a FIFO (named pipe), not a regular file" in done.stderr
+
+
+@pytest.mark.parametrize("command", ["plan", "check", "show"])
+def test_an_empty_file_name_is_refused_not_replaced_by_the_demo_board(command, capsys):
+    status = main([command, ""])
+    out, err = capsys.readouterr()
+    assert (status, out) == (EXIT_BAD_INPUT, "")
+    assert err == 'clockplan: "": the file name is empty; give a scenario file\n'
+
+
+def test_diff_refuses_an_empty_file_name(capsys):
+    status = main(["diff", "", "--time-limit", "5"])
+    _, err = capsys.readouterr()
+    assert status == EXIT_BAD_INPUT
+    assert err == 'clockplan: "": the file name is empty; give a scenario file\n'
 
 
 def test_an_empty_file_asks_for_an_oscillator(tmp_path, capsys):

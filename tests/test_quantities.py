@@ -1,3 +1,4 @@
+import re
 from fractions import Fraction
 
 import pytest
@@ -23,8 +24,11 @@ from clockplan.quantities import (
         ("1 GHz", Fraction(10**9)),
         ("0.5 Hz", Fraction(1, 2)),
         ("12MHz", Fraction(12_000_000)),
-        ("12 mhz", Fraction(12_000_000)),
+        ("12 MHZ", Fraction(12_000_000)),
+        ("12 khz", Fraction(12_000)),
         ("1e6 Hz", Fraction(10**6)),
+        ("1 mHz", Fraction(1, 1000)),
+        ("2.5 mHz", Fraction(1, 400)),
     ],
 )
 def test_frequencies_parse_exactly(text, hertz):
@@ -49,7 +53,9 @@ def test_relative_quantities_parse_exactly(text, ratio):
     ("text", "message"),
     [
         ("12", "has no unit"),
-        ("12 mHz", "expected one of"),
+        ("12 mhz", 'write "MHz" for megahertz or "mHz" for millihertz'),
+        ("12 mHZ", 'write "MHz" for megahertz or "mHz" for millihertz'),
+        ("0.5 mHz", "between 1 mHz and 1 THz"),
         ("12 MHzz", "expected one of"),
         ("-3 MHz", "not a positive frequency"),
         ("0 Hz", "not a positive frequency"),
@@ -61,6 +67,43 @@ def test_relative_quantities_parse_exactly(text, ratio):
 def test_bad_frequencies_say_what_was_expected(text, message):
     with pytest.raises(QuantityError, match=message):
         parse_frequency(text)
+
+
+@pytest.mark.parametrize(
+    ("text", "named"),
+    [
+        ("\uff11\uff12 MHz", "U+FF11 FULLWIDTH DIGIT ONE"),
+        ("\u0661\u0662 MHz", "U+0661 ARABIC-INDIC DIGIT ONE"),
+        ("12\nMHz", "U+000A"),
+        ("12\tMHz", "U+0009"),
+        ("12\u00a0MHz", "U+00A0 NO-BREAK SPACE"),
+        ("12\u202eMHz", "U+202E RIGHT-TO-LEFT OVERRIDE"),
+    ],
+)
+def test_only_ascii_digits_and_spaces_make_a_quantity(text, named):
+    with pytest.raises(QuantityError, match=re.escape(named)):
+        parse_frequency(text)
+
+
+def test_a_look_alike_letter_in_a_unit_is_named():
+    with pytest.raises(QuantityError) as raised:
+        parse_frequency("12 \u041cHz")  # a Cyrillic capital EM, not a Latin M
+    assert "U+041C CYRILLIC CAPITAL LETTER EM is not a Latin letter" in str(raised.value)
+
+
+def test_the_messages_quote_long_values_shortened_and_escaped():
+    with pytest.raises(QuantityError) as raised:
+        parse_frequency("\x1b]0;title\x07" + "9" * 10_000)
+    message = str(raised.value)
+    assert len(message) < 200
+    assert "\x1b" not in message and "\\x1b" in message
+
+
+def test_quantity_errors_are_clockplan_errors_and_value_errors():
+    from clockplan.errors import ClockplanError
+
+    assert issubclass(QuantityError, ClockplanError)
+    assert issubclass(QuantityError, ValueError)
 
 
 def test_negative_relative_is_refused():

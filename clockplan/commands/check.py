@@ -12,10 +12,12 @@ import json
 from rich.console import Console
 
 from clockplan.commands.plan import add_search_options, run_search
+from clockplan.errors import InputError
 from clockplan.exits import Exit, search_exit
 from clockplan.export import explanation_to_data, plan_to_data
 from clockplan.quantities import format_hz
 from clockplan.render import explanation_text, format_share
+from clockplan.text_safety import printable
 
 
 def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
@@ -33,6 +35,8 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
 
 def run(args: argparse.Namespace) -> int:
     """Print the verdict and return the exit status (see the module docstring)."""
+    if args.top < 1:  # check ranks one plan, but a bad --top is still a mistake to report
+        raise InputError("--top", f"{args.top} is not a positive count of plans")
     args.top = 1
     result = run_search(args, show_progress=False, explain=True)
     verdict = search_exit(result)
@@ -52,7 +56,7 @@ def run(args: argparse.Namespace) -> int:
         print(json.dumps(data, indent=2))
         return verdict
     console = Console(highlight=False, soft_wrap=True)
-    title = f"{result.scenario.file}: {result.scenario.title}"
+    title = printable(f"{result.scenario.file}: {result.scenario.title}")
     if best is not None:
         oscillators = ", ".join(f"{n} {format_hz(f)}" for n, f in best.choice.items())
         worst = best.evaluation.worst

@@ -26,6 +26,7 @@ from clockplan.render import format_rate
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan, SearchResult
 from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
+from clockplan.text_safety import printable
 
 EXIT_OK = 0
 
@@ -235,8 +236,10 @@ def run(args: argparse.Namespace) -> int:
     console = Console()
     for label, side in (("A", a), ("B", b)):
         console.print(
-            f"{label}: {side.scenario.title} ({side.scenario.file}), rank {side.ranked.rank}, "
-            f"{side.ranked.status.value}",
+            printable(
+                f"{label}: {side.scenario.title} ({side.scenario.file}), rank {side.ranked.rank}, "
+                f"{side.ranked.status.value}"
+            ),
             markup=False,
             highlight=False,
         )

@@ -84,7 +84,7 @@ def run_search(
     if not args.time_limit > 0:
         raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
     started = getattr(args, "started", None) or time.monotonic()
-    scenario = load_scenario(args.file or default_scenario_path())
+    scenario = load_scenario(default_scenario_path() if args.file is None else args.file)
     options = {"top": args.top, "time_limit": args.time_limit, "workers": args.workers}
     if not show_progress or not sys.stderr.isatty():
         result = search(scenario, started=started, **options)

@@ -24,7 +24,9 @@ from clockplan.graphs import dot_text, graphml_text, plan_graph
 from clockplan.header import header_text
 from clockplan.render import status_line
 from clockplan.report import report_text
+from clockplan.scenario import default_scenario_path
 from clockplan.solve import RankedPlan, SearchResult, Status
+from clockplan.text_safety import printable
 from clockplan.treeview import legend, plan_tree
 
 EXIT_OK, EXIT_NO_PLAN = 0, 1
@@ -68,6 +70,11 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
     parser.set_defaults(func=run)
 
 
+def _inputs(args: argparse.Namespace) -> tuple[str | Path, ...]:
+    """The scenario file read, which no export may replace."""
+    return (default_scenario_path() if args.file is None else args.file,)
+
+
 def _targets(args: argparse.Namespace) -> dict[str, Path]:
     """The export paths asked for, checked before any search work is spent."""
     targets: dict[str, Path] = {}
@@ -75,7 +82,7 @@ def _targets(args: argparse.Namespace) -> dict[str, Path]:
         path = getattr(args, name)
         if path is None:
             continue
-        target = check_target(path, force=args.force, option=f"--{name}")
+        target = check_target(path, force=args.force, option=f"--{name}", inputs=_inputs(args))
         for other, seen in targets.items():
             if seen.resolve() == target.resolve():
                 raise InputError(f"--{name}", f"{path} is also the path of --{other}")
@@ -95,6 +102,8 @@ def run(args: argparse.Namespace) -> int:
     """Print the tree (or JSON) and write the exports; exit 1 when the plan misses an allowance."""
     if args.rank < 1:
         raise InputError("--rank", f"{args.rank} is not a rank; ranks start at 1")
+    if args.top < 1:
+        raise InputError("--top", f"{args.top} is not a positive count of plans")
     targets = _targets(args)
     args.top = max(args.top, args.rank)
     result = run_search(args, show_progress=not args.json)
@@ -121,6 +130,7 @@ def run(args: argparse.Namespace) -> int:
         console.print(plan_tree(result.scenario, ranked))
         console.print(legend())
     for name, target in targets.items():
-        write_atomic(target, EXPORTS[name][1](result, ranked), force=args.force, option=f"--{name}")
-        notes.print(f"wrote {target}", markup=False, highlight=False)
+        text = EXPORTS[name][1](result, ranked)
+        write_atomic(target, text, force=args.force, option=f"--{name}", inputs=_inputs(args))
+        notes.print(f"wrote {printable(str(target))}", markup=False, highlight=False)
     return EXIT_OK if ranked.evaluation.feasible else EXIT_NO_PLAN

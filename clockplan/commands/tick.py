@@ -16,6 +16,7 @@ from rich.table import Table
 from clockplan.errors import InputError
 from clockplan.quantities import (
     QuantityError,
+    check_plain_text,
     exact_string,
     format_hz,
     format_ppm,
@@ -24,7 +25,9 @@ from clockplan.quantities import (
     parse_number,
     parse_quantity,
     parse_relative,
+    parse_temperature_range,
 )
+from clockplan.text_safety import quoted
 from clockplan.tick import (
     DAYS_PER_MONTH,
     DAYS_PER_YEAR,
@@ -48,9 +51,8 @@ from clockplan.tick import (
 )
 
 _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
-_TEMPERATURES = re.compile(rf"^\s*({_NUMBER})\s*(?:°?C)?\s*\.\.\s*({_NUMBER})\s*(?:°?C)?\s*$")
-_CYCLES = re.compile(r"^\s*(?:2\s*\*\*\s*(\d+)|(\d+))\s*cycles?\s*$")
-_DURATION = re.compile(rf"^\s*({_NUMBER}(?:[eE][+-]?\d+)?)\s*(s|min|h)\s*$")
+_CYCLES = re.compile(r"^\s*(?:2\s*\*\*\s*(\d+)|(\d+))\s*cycles?\s*$", re.ASCII)
+_DURATION = re.compile(rf"^\s*({_NUMBER}(?:[eE][+-]?\d+)?)\s*(s|min|h)\s*$", re.ASCII)
 _SECONDS_PER_UNIT = {"s": 1, "min": 60, "h": 3600}
 
 
@@ -74,7 +76,8 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         "--list",
         metavar="N",
         default=str(LISTED_SETTINGS),
-        help=f"how many exact or closest settings to list (default {LISTED_SETTINGS})",
+        help=f"how many exact or closest settings to list (default {LISTED_SETTINGS}, "
+        f"at most {MAX_LISTED})",
     )
     heat = parser.add_argument_group("temperature")
     heat.add_argument(
@@ -111,7 +114,7 @@ def run(args: argparse.Namespace) -> int:
         raise InputError("--source", 'is required; give the source frequency, like "32.768 kHz"')
     source = _parsed(args.source, "--source", parse_frequency)
     rate = _parsed(args.rate, "--rate", parse_frequency)
-    listed = _whole(args.list, "--list", minimum=1)
+    listed = _whole(args.list, "--list", minimum=1, maximum=MAX_LISTED)
     suggested = args.chain is None
     chain = (
         suggest_chain(source, rate) if suggested else _parsed(args.chain, "--chain", parse_chain)
@@ -136,10 +139,20 @@ def _parsed(text: str, option: str, parse: Callable[[str], Any]) -> Any:
         raise InputError(option, str(error)) from None
 
 
-def _whole(text: str, option: str, *, minimum: int) -> int:
-    if not text.strip().isdigit() or int(text) < minimum:
-        raise InputError(option, f"{text!r} is not a whole number of at least {minimum}")
-    return int(text)
+MAX_LISTED = 1000
+"""The most settings --list may ask for: a table, not an enumeration of the chain."""
+MAX_COUNT = 2**62
+"""The largest whole number an option takes (cycles, steps, settings listed): past it no
+calibration register or list makes sense, and the arithmetic would only grow."""
+
+
+def _whole(text: str, option: str, *, minimum: int, maximum: int = MAX_COUNT) -> int:
+    digits = text.strip()
+    if not (digits.isascii() and digits.isdigit()) or len(digits) > 19 or int(digits) < minimum:
+        raise InputError(option, f"{quoted(text)} is not a whole number of at least {minimum}")
+    if int(digits) > maximum:
+        raise InputError(option, f"{quoted(text)} is more than {maximum}")
+    return int(digits)
 
 
 def _temperature(args: argparse.Namespace, base_error: Fraction) -> TemperatureDrift | None:
@@ -173,15 +186,10 @@ def _temperature(args: argparse.Namespace, base_error: Fraction) -> TemperatureD
 
 
 def _temperature_range(text: str) -> tuple[Fraction, Fraction]:
-    match = _TEMPERATURES.match(text.replace("−", "-"))
-    if match is None:
-        raise InputError("--temperature", f"{text!r} is not a range in °C such as -20..70")
-    low, high = Fraction(match.group(1)), Fraction(match.group(2))
-    if low > high:
-        raise InputError("--temperature", f"{text!r} runs backwards; write the low end first")
-    if low < -273:
-        raise InputError("--temperature", f"{text!r} goes below absolute zero")
-    return low, high
+    try:
+        return parse_temperature_range(text)
+    except QuantityError as error:
+        raise InputError("--temperature", str(error)) from None
 
 
 def _calibration(
@@ -207,20 +215,30 @@ def _calibration(
 
 def _window_cycles(text: str, source: Fraction) -> int:
     """The calibration window in source cycles, from cycles or from a duration."""
-    cycles = _CYCLES.match(text)
+    check = _parsed(text, "--window", check_plain_text)
+    cycles = _CYCLES.match(check)
+    too_long = f"{quoted(text)} is longer than 2**62 source cycles"
     if cycles:
-        count = 2 ** int(cycles.group(1)) if cycles.group(1) else int(cycles.group(2))
+        power, plain = cycles.groups()
+        if len((power or plain).lstrip("0")) > 19:
+            raise InputError("--window", too_long)
+        count = 2 ** int(power) if power and int(power) <= 62 else int(plain or MAX_COUNT + 1)
     else:
-        duration = _DURATION.match(text)
+        duration = _DURATION.match(check)
         if duration is None:
             expected = '"2**20 cycles", "1048576 cycles" or "32 s"'
-            raise InputError("--window", f"{text!r} is not a window such as {expected}")
-        exact = Fraction(duration.group(1)) * _SECONDS_PER_UNIT[duration.group(2)] * source
+            raise InputError("--window", f"{quoted(text)} is not a window such as {expected}")
+        seconds = _parsed(duration.group(1), "--window", parse_number)
+        exact = seconds * _SECONDS_PER_UNIT[duration.group(2)] * source
+        if exact > MAX_COUNT:
+            raise InputError("--window", too_long)
         if exact.denominator != 1:
-            raise InputError("--window", f"{text!r} is not a whole number of source cycles")
+            raise InputError("--window", f"{quoted(text)} is not a whole number of source cycles")
         count = exact.numerator
+    if count > MAX_COUNT:
+        raise InputError("--window", too_long)
     if count < 2:
-        raise InputError("--window", f"{text!r} is shorter than two source cycles")
+        raise InputError("--window", f"{quoted(text)} is shorter than two source cycles")
     return count
 
 

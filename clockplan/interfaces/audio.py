@@ -52,6 +52,10 @@ QUALITIES: dict[str, tuple[Fraction, str]] = {
 """Default allowance by the kind of equipment, with its basis."""
 
 
+MAX_SAMPLE_RATES = 64
+"""The most sampling rates one audio interface may list (each is a requirement of the search)."""
+
+
 def family(rate: Fraction) -> str:
     """ "44.1 kHz" for whole multiples of 11.025 kHz, "48 kHz" for 8 kHz ones, else "other"."""
     if (rate / 11_025).denominator == 1:
@@ -65,6 +69,8 @@ def _sample_rates(value: object) -> tuple[Fraction, ...]:
     rates = value if isinstance(value, list) else [value]
     if not rates:
         raise QuantityError('an empty list; give at least one, like ["48 kHz"]')
+    if len(rates) > MAX_SAMPLE_RATES:
+        raise QuantityError(f"lists {len(rates)} sampling rates; at most {MAX_SAMPLE_RATES}")
     return tuple(dict.fromkeys(parse_frequency(rate) for rate in rates))
 
 

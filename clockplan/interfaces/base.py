@@ -5,10 +5,20 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
-__all__ = ["Requirement", "Peripheral", "Divisors", "Option", "times"]
+__all__ = ["Requirement", "Peripheral", "Divisors", "Option", "times", "smallest", "largest"]
 
 Divisors = range | tuple[int, ...]
 """Allowed values of an internal divisor: a ``range`` (maybe stepped) or a sorted tuple."""
+
+
+def smallest(values: Divisors) -> int:
+    """The least allowed value, without walking a range (a range may hold 2**40 values)."""
+    return values[0] if isinstance(values, range) and values.step > 0 else min(values)
+
+
+def largest(values: Divisors) -> int:
+    """The greatest allowed value, without walking a range."""
+    return values[-1] if isinstance(values, range) and values.step > 0 else max(values)
 
 
 def times(values: Divisors, factor: int) -> Divisors:

@@ -44,19 +44,20 @@ Sources:
 
 from __future__ import annotations
 
-from collections.abc import Callable
+import bisect
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Option, Peripheral, Requirement, times
+from clockplan.interfaces.base import Divisors, Option, Peripheral, Requirement, largest, times
 from clockplan.interfaces.common import read_clock
 from clockplan.quantities import (
     QuantityError,
     format_hz,
     format_relative,
+    parse_frequency,
     parse_integer_choices,
-    parse_quantity,
     parse_relative,
 )
 
@@ -70,6 +71,7 @@ __all__ = [
     "data_tolerance",
     "recommended_sample_point",
     "best_split",
+    "phase1_fits",
     "timing_options",
     "read",
 ]
@@ -171,42 +173,56 @@ def best_split(
     window: Fraction,
     limits: SegmentLimits,
     tolerance: Callable[[BitTiming], Fraction],
+    *,
+    fits: Sequence[Sequence[int]] | None = None,
 ) -> BitTiming | None:
     """The split of ``quanta`` closest to ``sample_point`` (within ``window``), else None.
 
     PHASE1 is the shortest length ≥ PHASE2 that leaves PROP inside its limits (the tolerance
     depends only on min(PHASE1, PHASE2), so the rest goes to the propagation segment); SJW is
     the largest allowed, min(limit, PHASE1, PHASE2). Ties go to the larger tolerance.
+    ``fits`` is :func:`phase1_fits` of ``limits``, when the caller already has it.
     """
+    if fits is None or len(fits) < quanta:
+        fits = phase1_fits(limits, quanta)
     best: tuple[tuple[Fraction, Fraction, int], BitTiming] | None = None
     for phase2 in limits.phase2:
+        if phase2 > quanta - 2:  # SYNC and PHASE1 need a quantum each
+            continue
+        distance = abs(Fraction(quanta - phase2, quanta) - sample_point)  # the sample point
+        if distance > window:
+            continue
         rest = quanta - 1 - phase2
-        phase1 = _phase1_for(rest, phase2, limits)
+        phase1 = _phase1_for(fits[rest], phase2)
         if phase1 is None:
             continue
         sjw = min(limits.sjw, phase1, phase2)
         if sjw < 1:
             continue
         timing = BitTiming(quanta, rest - phase1, phase1, phase2, sjw)
-        distance = abs(timing.sample_point - sample_point)
-        if distance > window:
-            continue
         key = (distance, -tolerance(timing), phase2)
         if best is None or key < best[0]:
             best = (key, timing)
     return best[1] if best else None
 
 
-def _phase1_for(rest: int, phase2: int, limits: SegmentLimits) -> int | None:
-    fits = [
-        phase1
-        for phase1 in limits.phase1
-        if phase1 <= rest and (rest - phase1) in limits.propagation
-    ]
+def phase1_fits(limits: SegmentLimits, quanta: int) -> tuple[tuple[int, ...], ...]:
+    """For each ``rest`` below ``quanta``, the PHASE1 lengths that leave PROP = rest − PHASE1
+    inside its limits, ascending: computed once, so a split is a look-up, not a search."""
+    allowed = frozenset(limits.propagation)
+    phase1 = sorted(value for value in limits.phase1 if value < quanta)
+    return tuple(
+        tuple(value for value in phase1 if value <= rest and rest - value in allowed)
+        for rest in range(quanta)
+    )
+
+
+def _phase1_for(fits: Sequence[int], phase2: int) -> int | None:
+    """The shortest fitting PHASE1 at least PHASE2 long, else the longest shorter one."""
     if not fits:
         return None
-    at_least = [phase1 for phase1 in fits if phase1 >= phase2]
-    return min(at_least) if at_least else max(fits)
+    index = bisect.bisect_left(fits, phase2)
+    return fits[index] if index < len(fits) else fits[-1]
 
 
 def timing_options(
@@ -224,8 +240,9 @@ def timing_options(
     ``allowance`` (the scenario's override) is given.
     """
     options = []
+    fits = phase1_fits(limits, largest(quanta) + 1)
     for count in quanta:
-        timing = best_split(count, sample_point, window, limits, tolerance)
+        timing = best_split(count, sample_point, window, limits, tolerance, fits=fits)
         if timing is None:
             continue
         options.append(
@@ -241,10 +258,7 @@ def timing_options(
 
 
 def _bit_rate(value: object) -> Fraction:
-    rate = parse_quantity(value, "frequency", bare_unit="Hz")
-    if rate <= 0:
-        raise QuantityError(f'{value!r} is not a positive bit rate; write 500000 or "500 kHz"')
-    return rate
+    return parse_frequency(value, bare_unit="Hz")
 
 
 def _share(value: object) -> Fraction:
@@ -290,8 +304,8 @@ def _read_phase(
     window = fields.take(f"{prefix}sample_point_window", parse_relative, window)
     segments = SegmentLimits(
         fields.take(f"{prefix}propagation", _zero_or_more, limits.propagation),
-        fields.take(f"{prefix}phase1", parse_integer_choices, limits.phase1),
-        fields.take(f"{prefix}phase2", parse_integer_choices, limits.phase2),
+        fields.take(f"{prefix}phase1", _segment, limits.phase1),
+        fields.take(f"{prefix}phase2", _segment, limits.phase2),
         fields.take_int(f"{prefix}sjw", limits.sjw, minimum=1, maximum=1024),
     )
     allowance = fields.take(f"{prefix}allowance", parse_relative, None)
@@ -304,15 +318,29 @@ def _read_phase(
     )
 
 
+MAX_QUANTA = 512
+"""The most time quanta per bit accepted: more than any controller counts (common practice,
+no source); a segment is shorter still."""
+
+
 def _quanta(value: object) -> Divisors:
     values = parse_integer_choices(value, minimum=3)
-    if max(values) > 512:
-        raise QuantityError(f"{max(values)} quanta per bit is more than any controller counts")
+    if largest(values) > MAX_QUANTA:
+        raise QuantityError(f"{largest(values)} quanta per bit is more than any controller counts")
+    return values
+
+
+def _segment(value: object, *, minimum: int = 1) -> Divisors:
+    values = parse_integer_choices(value, minimum=minimum)
+    if largest(values) > MAX_QUANTA:
+        raise QuantityError(
+            f"{largest(values)} quanta in one segment is more than any controller counts"
+        )
     return values
 
 
 def _zero_or_more(value: object) -> Divisors:
-    return parse_integer_choices(value, minimum=0)
+    return _segment(value, minimum=0)
 
 
 def _phase_requirement(

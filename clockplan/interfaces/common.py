@@ -5,7 +5,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.quantities import QuantityError, parse_relative
+from clockplan.quantities import QuantityError, parse_relative, ratio_down
 
 __all__ = ["read_clock", "read_allowance", "parse_flag"]
 
@@ -18,9 +18,9 @@ def read_clock(fields: Fields) -> str:
 def read_allowance(fields: Fields, default: Fraction | None, basis: str) -> tuple[Fraction, str]:
     """The allowance: the scenario's ``allowance`` when given, else the kind's default."""
     if fields.has("allowance"):
-        value = fields.take("allowance", parse_relative)
+        value = ratio_down(fields.take("allowance", parse_relative))
         if value <= 0:
-            raise fields.error("allowance", "must be above zero")
+            raise fields.error("allowance", "must be above zero (at least 1 ppb)")
         return value, "set in the scenario"
     fields.take("allowance", parse_relative, None)
     if default is None:
