@@ -65,8 +65,32 @@ CapacitorSeries = Literal["E12", "E24"]
 # (the mantissas, as two significant digits; values written from memory).
 _SERIES_MANTISSAS: dict[str, tuple[int, ...]] = {
     "E12": (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82),
-    "E24": (10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30,
-            33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91),
+    "E24": (
+        10,
+        11,
+        12,
+        13,
+        15,
+        16,
+        18,
+        20,
+        22,
+        24,
+        27,
+        30,
+        33,
+        36,
+        39,
+        43,
+        47,
+        51,
+        56,
+        62,
+        68,
+        75,
+        82,
+        91,
+    ),
 }
 _SERIES_DECADES = range(3)
 """Decades offered for load capacitors: 1.0 pF to 910 pF."""
@@ -365,9 +389,14 @@ _CIRCUIT_UNITS: dict[str, dict[str, Fraction]] = {
         for unit in names
     },
     "transconductance": {
-        "A/V": Fraction(1), "S": Fraction(1),
-        "mA/V": _MILLI, "mS": _MILLI,
-        "uA/V": _MICRO, "µA/V": _MICRO, "uS": _MICRO, "µS": _MICRO,
+        "A/V": Fraction(1),
+        "S": Fraction(1),
+        "mA/V": _MILLI,
+        "mS": _MILLI,
+        "uA/V": _MICRO,
+        "µA/V": _MICRO,
+        "uS": _MICRO,
+        "µS": _MICRO,
     },
     "power": {"W": Fraction(1), "mW": _MILLI, "uW": _MICRO, "µW": _MICRO, "nW": _NANO},
     "voltage": {"V": Fraction(1), "mV": _MILLI},
@@ -384,7 +413,7 @@ def parse_circuit_quantity(text: str, dimension: CircuitDimension) -> Fraction:
     match = _AMOUNT.match(text) if isinstance(text, str) else None
     if match is None:
         example = next(iter(units))
-        raise QuantityError(f"{text!r} is not a {dimension} such as \"10 {example}\"")
+        raise QuantityError(f'{text!r} is not a {dimension} such as "10 {example}"')
     number, unit = match.groups()
     if unit not in units:
         raise QuantityError(f"{text!r} has unit {unit!r}; expected one of {', '.join(units)}")

@@ -35,6 +35,7 @@ CAUTIONS = (
 TERMS = ("tolerance", "stability", "aging", "pulling")
 """The oscillator budget's terms, in the order the report lists them."""
 
+
 def status_words(status: Status) -> str:
     """What a search status means, in words; "optimal" only when proved."""
     return STATUS_WORDS[status]

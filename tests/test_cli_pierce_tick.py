@@ -27,8 +27,20 @@ def test_pierce_report_for_a_16_mhz_crystal(capsys: pytest.CaptureFixture[str]) 
     # Source: crystal makers' load-capacitance notes, C1 = C2 = 2·(CL − C_stray): 12 pF load,
     # 3 pF stray → two 18 pF capacitors.
     status, out, err = run_cli(
-        capsys, *SIXTEEN_MHZ, "--shunt", "5 pF", "--motional", "7 fF", "--esr", "40 ohm",
-        "--gm", "10 mA/V", "--swing", "1 V", "--max-drive", "100 uW",
+        capsys,
+        *SIXTEEN_MHZ,
+        "--shunt",
+        "5 pF",
+        "--motional",
+        "7 fF",
+        "--esr",
+        "40 ohm",
+        "--gm",
+        "10 mA/V",
+        "--swing",
+        "1 V",
+        "--max-drive",
+        "100 uW",
     )
     assert (status, err) == (0, "")
     assert "18 pF + 18 pF" in out
@@ -55,8 +67,18 @@ def test_pierce_warns_when_the_gain_margin_is_too_low(capsys: pytest.CaptureFixt
     # design notebook: ESR 80 Ω, 16 MHz, C0 7 pF, CL 9 pF → gm_crit 0.8279 mA/V; 3 mA/V is a
     # margin of 3.6, below the guide's 5.
     status, out, _ = run_cli(
-        capsys, "pierce", "--frequency", "16 MHz", "--load", "9 pF", "--shunt", "7 pF",
-        "--esr", "80 ohm", "--gm", "3 mA/V",
+        capsys,
+        "pierce",
+        "--frequency",
+        "16 MHz",
+        "--load",
+        "9 pF",
+        "--shunt",
+        "7 pF",
+        "--esr",
+        "80 ohm",
+        "--gm",
+        "3 mA/V",
     )
     assert status == 1
     assert "will likely not start reliably" in " ".join(out.split())
@@ -66,8 +88,19 @@ def test_pierce_json_reproduces_the_worked_gain_margin(capsys: pytest.CaptureFix
     # Source: the design notebook's AN2867 case: gm 17 mA/V over gm_crit 0.8279 mA/V = 20.53.
     # 9 pF with 3 pF stray takes two 12 pF capacitors (an E12 value), so the load is exact.
     status, out, _ = run_cli(
-        capsys, "pierce", "--frequency", "16 MHz", "--load", "9 pF", "--shunt", "7 pF",
-        "--esr", "80 ohm", "--gm", "17 mA/V", "--json",
+        capsys,
+        "pierce",
+        "--frequency",
+        "16 MHz",
+        "--load",
+        "9 pF",
+        "--shunt",
+        "7 pF",
+        "--esr",
+        "80 ohm",
+        "--gm",
+        "17 mA/V",
+        "--json",
     )
     report = json.loads(out)
     assert status == 0
@@ -90,9 +123,23 @@ def test_pierce_flags_excess_drive_level(capsys: pytest.CaptureFixture[str]) -> 
     # By hand from DL = I_rms²·ESR (crystal makers' guides), I_rms = π·F·C·V_pp/√2 (from
     # memory): 8 MHz, ESR 50 Ω, 20 pF, 1 Vpp → 6.32 µW > 5 µW.
     status, out, _ = run_cli(
-        capsys, "pierce", "--frequency", "8 MHz", "--load", "12 pF", "--shunt", "3 pF",
-        "--esr", "50 ohm", "--swing", "1 V", "--node-capacitance", "20 pF",
-        "--max-drive", "5 uW", "--json",
+        capsys,
+        "pierce",
+        "--frequency",
+        "8 MHz",
+        "--load",
+        "12 pF",
+        "--shunt",
+        "3 pF",
+        "--esr",
+        "50 ohm",
+        "--swing",
+        "1 V",
+        "--node-capacitance",
+        "20 pF",
+        "--max-drive",
+        "5 uW",
+        "--json",
     )
     report = json.loads(out)
     assert status == 1
@@ -149,8 +196,19 @@ def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) 
     # Source: a microcontroller reference manual's RTC calibration (a 2**20-cycle, 32 s window,
     # step about 0.954 ppm); by hand 32 s × 32 768 Hz = 2**20, step 0.95367431640625 ppm.
     _, out, _ = run_cli(
-        capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--calibrate",
-        "+12.3 ppm", "--window", "32 s", "--max-steps", "511", "--json",
+        capsys,
+        "tick",
+        "--source",
+        "32.768 kHz",
+        "--chain",
+        "pow2 15",
+        "--calibrate",
+        "+12.3 ppm",
+        "--window",
+        "32 s",
+        "--max-steps",
+        "511",
+        "--json",
     )
     calibration = json.loads(out)["calibration"]
     assert calibration["window_cycles"] == 2**20
@@ -161,8 +219,18 @@ def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) 
 def test_tick_tuning_fork_at_45_c(capsys: pytest.CaptureFixture[str]) -> None:
     # Source: a tuning-fork crystal datasheet's worked example: k = −0.030 at 45 °C → −12.0 ppm.
     _, out, _ = run_cli(
-        capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--curve",
-        "tuning-fork", "--coefficient=-0.030", "--temperature", "45..45", "--json",
+        capsys,
+        "tick",
+        "--source",
+        "32.768 kHz",
+        "--chain",
+        "pow2 15",
+        "--curve",
+        "tuning-fork",
+        "--coefficient=-0.030",
+        "--temperature",
+        "45..45",
+        "--json",
     )
     worst = json.loads(out)["temperature"]["worst"]
     assert worst["error_ppm"] == pytest.approx(-12.0)
@@ -173,8 +241,18 @@ def test_tick_report_shows_temperature_and_calibration(
     capsys: pytest.CaptureFixture[str],
 ) -> None:
     status, out, _ = run_cli(
-        capsys, "tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--curve",
-        "tuning-fork", "--temperature=-20..70", "--calibrate", "+12.3 ppm", "--window",
+        capsys,
+        "tick",
+        "--source",
+        "32.768 kHz",
+        "--chain",
+        "pow2 15",
+        "--curve",
+        "tuning-fork",
+        "--temperature=-20..70",
+        "--calibrate",
+        "+12.3 ppm",
+        "--window",
         "2**20 cycles",
     )
     assert status == 0
@@ -192,8 +270,20 @@ def test_tick_report_shows_temperature_and_calibration(
         (["pierce", "--frequency", "-16 MHz", "--load", "12 pF"], "--frequency"),
         (["pierce", "--frequency", "16 furlongs", "--load", "12 pF"], "--frequency"),
         (["pierce", "--load", "12 pF"], "--frequency"),
-        (["pierce", "--frequency", "16 MHz", "--load", "12 pF", "--shunt", "5 pF",
-          "--esr", "40 parsecs"], "--esr"),
+        (
+            [
+                "pierce",
+                "--frequency",
+                "16 MHz",
+                "--load",
+                "12 pF",
+                "--shunt",
+                "5 pF",
+                "--esr",
+                "40 parsecs",
+            ],
+            "--esr",
+        ),
         (["pierce", "--frequency", "16 MHz", "--load", "12 pF", "--esr", "40 ohm"], "--esr"),
         (["pierce", "--frequency", "16 MHz", "--load", "12 pF", "--series", "E96"], "--series"),
         (["tick", "--chain", "pow2 15"], "--source"),
@@ -202,14 +292,20 @@ def test_tick_report_shows_temperature_and_calibration(
         (["tick", "--source", "32.768 kHz", "--chain", "1..0"], "--chain"),
         (["tick", "--source", "32.768 kHz", "--chain", "pow2 15", "--rate", "0 Hz"], "--rate"),
         (["tick", "--source", "32.768 kHz", "--calibrate", "+3 ppm"], "--window"),
-        (["tick", "--source", "32.768 kHz", "--calibrate", "+3 ppm", "--window", "3 parsecs"],
-         "--window"),
+        (
+            ["tick", "--source", "32.768 kHz", "--calibrate", "+3 ppm", "--window", "3 parsecs"],
+            "--window",
+        ),
         (["tick", "--source", "32.768 kHz", "--window", "0.3 s"], "--window"),
         (["tick", "--source", "32.768 kHz", "--curve", "tuning-fork"], "--temperature"),
-        (["tick", "--source", "32.768 kHz", "--curve", "tuning-fork", "--temperature", "70..20"],
-         "--temperature"),
-        (["tick", "--source", "32.768 kHz", "--band", "twenty", "--temperature", "0..50"],
-         "--band"),
+        (
+            ["tick", "--source", "32.768 kHz", "--curve", "tuning-fork", "--temperature", "70..20"],
+            "--temperature",
+        ),
+        (
+            ["tick", "--source", "32.768 kHz", "--band", "twenty", "--temperature", "0..50"],
+            "--band",
+        ),
     ],
 )
 def test_bad_input_exits_2_with_one_line(
@@ -224,9 +320,21 @@ def test_bad_input_exits_2_with_one_line(
 def test_subprocess_tick_watch_crystal() -> None:
     # Arithmetic: 32 768 = 2**15, the reason watch crystals run at 32.768 kHz.
     result = subprocess.run(
-        [sys.executable, "-m", "clockplan", "tick", "--source", "32.768 kHz", "--chain",
-         "pow2 15", "--json"],
-        capture_output=True, text=True, cwd=REPOSITORY, check=False,
+        [
+            sys.executable,
+            "-m",
+            "clockplan",
+            "tick",
+            "--source",
+            "32.768 kHz",
+            "--chain",
+            "pow2 15",
+            "--json",
+        ],
+        capture_output=True,
+        text=True,
+        cwd=REPOSITORY,
+        check=False,
     )
     assert result.returncode == 0, result.stderr
     report = json.loads(result.stdout)
@@ -235,9 +343,22 @@ def test_subprocess_tick_watch_crystal() -> None:
 
 def test_subprocess_bad_input_is_one_line_without_traceback() -> None:
     result = subprocess.run(
-        [sys.executable, "-m", "clockplan", "pierce", "--frequency", "16 MHz", "--load",
-         "12 pF", "--stray", "20 pF"],
-        capture_output=True, text=True, cwd=REPOSITORY, check=False,
+        [
+            sys.executable,
+            "-m",
+            "clockplan",
+            "pierce",
+            "--frequency",
+            "16 MHz",
+            "--load",
+            "12 pF",
+            "--stray",
+            "20 pF",
+        ],
+        capture_output=True,
+        text=True,
+        cwd=REPOSITORY,
+        check=False,
     )
     assert result.returncode == 2 and result.stdout == ""
     assert result.stderr.count("\n") == 1 and "Traceback" not in result.stderr

@@ -113,7 +113,9 @@ def test_alternative_sources_by_worst_share_or_by_cost(rank_by, chosen):
 
 def test_cost_cannot_buy_a_rate_the_cheap_source_cannot_hold():
     # USB full speed (±0.25 %, USB 2.0 §7.1.11) rules the resonator out even by cost.
-    text = ALTERNATIVES.format(rank_by="cost") + """
+    text = (
+        ALTERNATIVES.format(rank_by="cost")
+        + """
 [dividers.usb_clock]
 from = "main"
 divide = 1
@@ -126,5 +128,6 @@ vco = "48 MHz .. 48 MHz"
 kind = "usb-full-speed"
 from = "usb_pll"
 """
+    )
     best = search(scenario_from(text), top=1).plans[0]
     assert best.plan.settings["main.input"] == "crystal"

@@ -93,13 +93,21 @@ def uart_allowance(frame: str, samples: int, extra: str = "") -> Fraction:
 
 def test_the_published_limits_as_the_datasheet_tables_give_them():
     # Source: the datasheet tables above: 8N1 at 16× 144/151 … 160/153, at 8× 24/25 … 80/77.
-    assert receiver_limits(8, False, 16) == published_receiver_limits(8, 16) == (
-        Fraction(144, 151),
-        Fraction(160, 153),
+    assert (
+        receiver_limits(8, False, 16)
+        == published_receiver_limits(8, 16)
+        == (
+            Fraction(144, 151),
+            Fraction(160, 153),
+        )
     )
-    assert receiver_limits(8, False, 8) == published_receiver_limits(8, 8) == (
-        Fraction(24, 25),
-        Fraction(80, 77),
+    assert (
+        receiver_limits(8, False, 8)
+        == published_receiver_limits(8, 8)
+        == (
+            Fraction(24, 25),
+            Fraction(80, 77),
+        )
     )
 
 

@@ -35,9 +35,7 @@ def assert_no_raw_control(text: str) -> None:
 
 def test_printable_escapes_controls_and_keeps_ordinary_text():
     assert printable("12 MHz, µ, °C, é") == "12 MHz, µ, °C, é"
-    assert printable(HOSTILE) == (
-        "Board \\x1b]0;owned\\x07 \\x1b[31mred\\x9b2J \\u202eevil"
-    )
+    assert printable(HOSTILE) == ("Board \\x1b]0;owned\\x07 \\x1b[31mred\\x9b2J \\u202eevil")
     assert quoted("x" * 5000).endswith("(5000 characters)'")
 
 
@@ -91,4 +89,4 @@ def test_a_name_of_megabytes_is_shortened_in_its_one_line_error(tmp_path, capsys
     _, err = capsys.readouterr()
     assert status == 2
     assert err.count("\n") == 1 and len(err) < 500
-    assert f"{path}: sources.\"aaaa" in err and "characters)" in err
+    assert f'{path}: sources."aaaa' in err and "characters)" in err

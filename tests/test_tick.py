@@ -106,9 +106,7 @@ def test_calibration_with_nothing_to_correct(thirty_two_second_window: PulseCali
     assert (setting.action, setting.steps, setting.correction) == ("none", 0, 0)
 
 
-@pytest.mark.parametrize(
-    ("window", "cycles_per_step"), [(0, 1), (1024, 0), (1024, 1024)]
-)
+@pytest.mark.parametrize(("window", "cycles_per_step"), [(0, 1), (1024, 0), (1024, 1024)])
 def test_impossible_calibration_windows_are_refused(window: int, cycles_per_step: int) -> None:
     with pytest.raises(QuantityError):
         PulseCalibration(window_cycles=window, cycles_per_step=cycles_per_step)
@@ -210,20 +208,30 @@ def test_40_khz_cannot_reach_1_hz_through_binary_stages(chain: str) -> None:
 def test_40_khz_reaches_1_hz_through_programmable_prescalers() -> None:
     # arithmetic: the divisors of 40 000 from 2 to 128 (the second stage holds at most 32768):
     # 2, 4, 5, 8, 10, 16, 20, 25, 32, 40, 50, 64, 80, 100, 125 — fifteen exact settings.
-    search = search_chain(
-        Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=20
-    )
+    search = search_chain(Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=20)
     assert search.exact_count == 15
     assert [s.divisors[0] for s in search.settings] == [
-        2, 4, 5, 8, 10, 16, 20, 25, 32, 40, 50, 64, 80, 100, 125
+        2,
+        4,
+        5,
+        8,
+        10,
+        16,
+        20,
+        25,
+        32,
+        40,
+        50,
+        64,
+        80,
+        100,
+        125,
     ]
     assert all(math.prod(s.divisors) == 40_000 for s in search.settings)
 
 
 def test_listing_is_capped_but_the_count_is_complete() -> None:
-    search = search_chain(
-        Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=3
-    )
+    search = search_chain(Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=3)
     assert len(search.settings) == 3 and search.exact_count == 15
 
 

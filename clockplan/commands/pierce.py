@@ -98,9 +98,7 @@ def _read_inputs(args: argparse.Namespace) -> tuple[PierceCrystal, PierceBoard]:
     if load <= 0:
         raise InputError("--load", f"{args.load!r} must be above zero")
     if stray >= load:
-        raise InputError(
-            "--stray", f"{_pf(stray)} is at or above the load capacitance {_pf(load)}"
-        )
+        raise InputError("--stray", f"{_pf(stray)} is at or above the load capacitance {_pf(load)}")
     if args.series not in ("E12", "E24"):
         raise InputError("--series", f"{args.series!r} is not E12 or E24")
     crystal = PierceCrystal(
@@ -149,9 +147,7 @@ def _required(text: str | None, option: str, parse: Callable[[str], Fraction]) -
     return _parsed(text, option, parse)
 
 
-def _optional(
-    text: str | None, option: str, parse: Callable[[str], Fraction]
-) -> Fraction | None:
+def _optional(text: str | None, option: str, parse: Callable[[str], Fraction]) -> Fraction | None:
     return None if text is None else _parsed(text, option, parse)
 
 
@@ -264,9 +260,7 @@ def _as_json(
         "built_load_pf": in_pf(analysis.pair.load),
         "pulling_ppm": None if analysis.pulling is None else float(analysis.pulling) * 1e6,
         "pulling_sensitivity_ppm_per_pf": (
-            None
-            if analysis.sensitivity is None
-            else float(analysis.sensitivity * PICOFARAD) * 1e6
+            None if analysis.sensitivity is None else float(analysis.sensitivity * PICOFARAD) * 1e6
         ),
         "critical_gm_a_per_v": analysis.critical_transconductance,
         "gain_margin": analysis.gain_margin,

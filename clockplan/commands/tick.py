@@ -293,10 +293,7 @@ def _why_not_exact(search: TickSearch) -> str:
     if ratio.denominator != 1:
         return "source/tick is not a whole number, so no chain of whole dividers is exact."
     exact_chain = suggest_chain(search.source_hz, search.rate_hz).text
-    return (
-        f"no setting of this chain divides by exactly {ratio}; "
-        f'the chain "{exact_chain}" would.'
-    )
+    return f'no setting of this chain divides by exactly {ratio}; the chain "{exact_chain}" would.'
 
 
 def _summary_table(search: TickSearch, suggested: bool) -> Table:
