@@ -46,13 +46,13 @@ __all__ = [
 PICOFARAD = Fraction(1, 10**12)
 """One picofarad in farads."""
 
-OSCILLATOR_GUIDE = "oscillator design guide AN2867"
+OSCILLATOR_GUIDE = "a microcontroller maker's oscillator design guide"
 """Where gm_crit and the gain-margin rule come from, as shown to users."""
 
 MIN_GAIN_MARGIN = 5
 """Smallest gain margin (gm / gm_crit) we accept for reliable start-up.
 
-Source: a microcontroller maker's *Oscillator design guide* (application note AN2867),
+Source: a microcontroller maker's *Oscillator design guide* (an application note),
 which defines the gain margin as gm / gm_crit and asks for at least 5; a public design
 notebook applies it to a worked case (80 Ω, 16 MHz, C0 7 pF, CL 9 pF: gm_crit 0.8279 mA/V,
 margin 20.53 with gm 17 mA/V). Crystal makers state the same rule as a negative resistance
@@ -207,9 +207,9 @@ def critical_transconductance(
     """Smallest amplifier transconductance that sustains oscillation, in A/V.
 
     gm_crit = 4·ESR·(2πF)²·(C0 + CL)² = 16·ESR·F²·(C0 + CL)² · π²; the rational part is exact,
-    the factor π² makes the result a float. Source: *Oscillator design guide* (application
-    note AN2867; the formula as quoted from its revision 18, page 13, in its maker's user
-    forum).
+    the factor π² makes the result a float. Source: *Oscillator design guide* (a microcontroller
+    maker's application note; the formula as quoted from its revision 18, page 13, in its
+    maker's user forum).
     """
     if esr <= 0 or frequency <= 0 or shunt < 0 or load <= 0:
         raise ValueError("ESR, frequency and load must be positive, the shunt not negative")

@@ -128,7 +128,8 @@ def test_pulling_sensitivity_worked_check() -> None:
 
 
 def test_critical_transconductance_and_gain_margin_worked_check() -> None:
-    # Source: the oscillator design guide, application note AN2867 (gm_crit formula and the
+    # Source: a microcontroller maker's oscillator design guide, an application note (gm_crit
+    # formula and the
     # gain margin); a public design notebook works this very case. Step by step:
     #   2πF = 2π · 16 MHz = 1.00531e8 rad/s, squared 1.01065e16
     #   (C0 + CL)² = (7 pF + 9 pF)² = (16e-12)² = 2.56e-22 F²
@@ -142,7 +143,8 @@ def test_critical_transconductance_and_gain_margin_worked_check() -> None:
 @pytest.mark.parametrize(
     ("esr", "frequency", "shunt", "load", "expected"),
     [
-        # gm_crit = 4·ESR·(2πF)²·(C0 + CL)² (application note AN2867) worked by hand, in A/V.
+        # gm_crit = 4·ESR·(2πF)²·(C0 + CL)² (a microcontroller maker's application note),
+        # worked by hand, in A/V.
         (60, 8 * MHZ, 3, 10, 0.1025e-3),
         (50, 25 * MHZ, 3, 10, 0.8340e-3),
         (70_000, 32_768, "1.3", "12.5", 2.260e-6),
@@ -187,7 +189,7 @@ def sixteen_mhz_crystal() -> PierceCrystal:
 
 
 def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCrystal) -> None:
-    # Source: the design notebook's AN2867 case above; 9 pF with 3 pF stray needs 12 pF
+    # Source: the design notebook's worked case above; 9 pF with 3 pF stray needs 12 pF
     # capacitors, an E12 value,
     # so the built load is the specified one and the 20.53 margin carries over.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(17, 1000), swing=Fraction(1))
@@ -205,7 +207,7 @@ def test_analysis_reuses_the_worked_gain_margin(sixteen_mhz_crystal: PierceCryst
 
 def test_analysis_flags_a_weak_amplifier(sixteen_mhz_crystal: PierceCrystal) -> None:
     # gm 3 mA/V against gm_crit 0.8279 mA/V is a margin of 3.6, below the 5 that the
-    # oscillator design guide (application note AN2867) asks for.
+    # oscillator design guide (a microcontroller maker's application note) asks for.
     board = PierceBoard(stray=pf(3), transconductance=Fraction(3, 1000))
     analysis = analyse_pierce(sixteen_mhz_crystal, board)
     assert analysis.gain_margin is not None and analysis.gain_margin < MIN_GAIN_MARGIN

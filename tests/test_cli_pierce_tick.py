@@ -63,7 +63,8 @@ def test_pierce_default_stray_is_marked_as_an_assumption(
 
 
 def test_pierce_warns_when_the_gain_margin_is_too_low(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: the oscillator design guide (application note AN2867), worked in a public
+    # Source: a microcontroller maker's oscillator design guide (an application note), worked
+    # in a public
     # design notebook: ESR 80 Ω, 16 MHz, C0 7 pF, CL 9 pF → gm_crit 0.8279 mA/V; 3 mA/V is a
     # margin of 3.6, below the guide's 5.
     status, out, _ = run_cli(
@@ -85,7 +86,7 @@ def test_pierce_warns_when_the_gain_margin_is_too_low(capsys: pytest.CaptureFixt
 
 
 def test_pierce_json_reproduces_the_worked_gain_margin(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: the design notebook's AN2867 case: gm 17 mA/V over gm_crit 0.8279 mA/V = 20.53.
+    # Source: the design notebook's worked case: gm 17 mA/V over gm_crit 0.8279 mA/V = 20.53.
     # 9 pF with 3 pF stray takes two 12 pF capacitors (an E12 value), so the load is exact.
     status, out, _ = run_cli(
         capsys,
