@@ -22,7 +22,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from clockplan.interfaces.base import Divisors, Requirement
+from clockplan.interfaces.base import Divisors, Requirement, largest
 from clockplan.plan import SettingValue
 from clockplan.scenario import Scenario
 
@@ -76,9 +76,9 @@ def settle_settings(
 
 def _slowest(requirement: Requirement) -> RateSetting:
     if requirement.stages:
-        stages = tuple(max(values) for _, values in requirement.stages)
+        stages = tuple(largest(values) for _, values in requirement.stages)
         return RateSetting(0, math.prod(stages), stages)
-    return RateSetting(0, max(requirement.choices[0].divisors))
+    return RateSetting(0, largest(requirement.choices[0].divisors))
 
 
 def settle_rate(requirement: Requirement, kernel: Fraction, budget: Fraction) -> RateSetting | None:

@@ -33,7 +33,7 @@ from fractions import Fraction
 from ortools.sat.python import cp_model
 
 from clockplan.errors import InternalError, ModelTooLargeError
-from clockplan.interfaces.base import Divisors, Option, Requirement, times
+from clockplan.interfaces.base import Divisors, Option, Requirement, largest, smallest, times
 from clockplan.plan import SettingValue, pll_keys
 from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Divider, Mux, Pll, Scenario
@@ -491,16 +491,19 @@ class _Builder:
         amount_in, count_in = handles.amount[pll.input], handles.count[pll.input]
         divided = self.product(
             count_in,
-            _Term(reference, min(pll.reference_divider), max(pll.reference_divider)),
+            _Term(reference, smallest(pll.reference_divider), largest(pll.reference_divider)),
             f"count_pfd[{pll.name}]",
         )
         unit = handles.units[pll.input]
         self.frequency_between(f"{pll.name} PFD", unit, amount_in, divided, *pll.pfd)
         amount = self.product(amount_in, feedback, f"amount[{pll.name}]")
-        count = self.product(divided, _Term(modulus, modulus, modulus), f"count[{pll.name}]")
-        self.frequency_between(f"{pll.name} VCO", unit, amount, count, *pll.vco)
+        # The fraction's modulus goes into the unit, not the count: a count that is a multiple
+        # of a large constant makes CP-SAT's presolve leave a product it cannot load, and the
+        # process aborts (tests/test_solver.py).
+        unit = unit / modulus
+        self.frequency_between(f"{pll.name} VCO", unit, amount, divided, *pll.vco)
         handles.units[pll.name] = unit
-        handles.amount[pll.name], handles.count[pll.name] = amount, count
+        handles.amount[pll.name], handles.count[pll.name] = amount, divided
         handles.roots[pll.name] = handles.roots[pll.input]
 
     def add_divider(self, divider: Divider) -> None:
@@ -601,18 +604,18 @@ class _Builder:
                 stage = self.choice(requirement.stage_setting(name), values)
                 stages.append((stage, values))
             for (stage, values), (name, _) in zip(stages[:-1], requirement.stages, strict=False):
-                term = _Term(stage, min(values), max(values))
+                term = _Term(stage, smallest(values), largest(values))
                 head = self.product(head, term, f"{requirement.setting}*{name}")
             last, values = stages[-1]
             return _Divisor(
                 head,
-                _Term(last, min(values), max(values)),
+                _Term(last, smallest(values), largest(values)),
                 [(values, True)],
                 [(choices[0], True)],
                 tuple(stage for stage, _ in stages),
             )
-        low = min(min(option.divisors) for option in choices)
-        high = max(max(option.divisors) for option in choices)
+        low = min(smallest(option.divisors) for option in choices)
+        high = max(largest(option.divisors) for option in choices)
         one = _Term(1, 1, 1)
         if len(choices) == 1:
             var = self.choice(requirement.setting, choices[0].divisors)
@@ -631,7 +634,7 @@ class _Builder:
             prescaler = self.choice(f"prescaler[{requirement.setting}]", shared)
             return _Divisor(
                 _Term(quanta, min(factors), max(factors)),
-                _Term(prescaler, min(shared), max(shared)),
+                _Term(prescaler, smallest(shared), largest(shared)),
                 [(shared, True)],
                 [(option, True) for option in choices],
                 (index, prescaler),
