@@ -21,7 +21,11 @@ EXIT_INTERRUPTED = 130
 
 BLOCK_IN_THE_IMPORT = textwrap.dedent(
     """
-    import sys, time
+    import signal, sys, time
+
+    # Ctrl-C at a terminal reaches a process whose SIGINT is at its default; a test run
+    # started in the background hands its children SIGINT ignored, so restore the default.
+    signal.signal(signal.SIGINT, signal.default_int_handler)
 
     class Blocker:
         def find_spec(self, name, path=None, target=None):

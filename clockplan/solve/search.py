@@ -338,9 +338,10 @@ def _solve(
 def _parameters(workers: int) -> sat_parameters_pb2.SatParameters:
     """The solver's settings. One worker restarts often and switches between CP-SAT's
     strategies (its default single-thread search stalls on these models); several workers
-    run CP-SAT's own portfolio. Probing is off: on some models it makes CP-SAT stop the
-    whole process on a product it merged itself (tests/test_solver.py). Only speed depends
-    on these settings: every stage's optimum is proved."""
+    run CP-SAT's own portfolio. Probing is off: with it CP-SAT once aborted the process on
+    a product its presolve had merged (the model now avoids that shape, see
+    tests/test_solver.py; probing stays off until measured). Only speed depends on these
+    settings: every stage's optimum is proved."""
     parameters = sat_parameters_pb2.SatParameters()
     parameters.num_workers = workers
     if workers == 1:
@@ -367,16 +368,21 @@ def _solve_once(
         finally:
             done.set()
 
-    Thread(target=solve, daemon=True).start()
+    thread = Thread(target=solve, daemon=True)
     interrupted = False
     while True:
         try:
+            # Ctrl-C may come while the thread starts, before the solver runs: start inside
+            # the guard, and ask the solver to stop on every turn once interrupted.
+            if thread.ident is None:
+                thread.start()
+            if interrupted:
+                solver.stop_search()
             # Event.wait, not Thread.join: an interrupted join can report a live thread dead.
             if done.wait(0.05):
                 break
         except KeyboardInterrupt:
             interrupted = True
-            solver.stop_search()
     if not outcome:
         raise InternalError("CP-SAT stopped without a status")
     return solver, outcome[0], interrupted
