@@ -42,8 +42,12 @@ def test_show_prints_the_tree_of_the_default_scenario(capsys):
 
 
 def test_every_export_is_written_and_reads_back(capsys, tmp_path):
-    paths = {name: tmp_path / f"plan.{name}" for name in ("dot", "graphml", "svg", "header")}
-    paths["report"] = tmp_path / "plan.md"
+    # A folder name longer than a terminal line: each "wrote PATH" line must stay whole,
+    # for the user to copy (it once wrapped when the temporary path happened to be long).
+    folder = tmp_path / ("exports-" + "x" * 100)
+    folder.mkdir()
+    paths = {name: folder / f"plan.{name}" for name in ("dot", "graphml", "svg", "header")}
+    paths["report"] = folder / "plan.md"
     options = [item for name, path in paths.items() for item in (f"--{name}", str(path))]
     status, out, _ = run_cli(capsys, "show", "--top", "1", *options)
     assert status == 0

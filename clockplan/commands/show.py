@@ -132,5 +132,7 @@ def run(args: argparse.Namespace) -> int:
     for name, target in targets.items():
         text = EXPORTS[name][1](result, ranked)
         write_atomic(target, text, force=args.force, option=f"--{name}", inputs=_inputs(args))
-        notes.print(f"wrote {printable(str(target))}", markup=False, highlight=False)
+        notes.print(
+            f"wrote {printable(str(target))}", markup=False, highlight=False, soft_wrap=True
+        )
     return EXIT_OK if ranked.evaluation.feasible else EXIT_NO_PLAN
