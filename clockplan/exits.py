@@ -10,7 +10,7 @@ __all__ = ["Exit", "search_exit"]
 
 
 class Exit(IntEnum):
-    """What a command's exit status says (README, "Exit statuses")."""
+    """What a command's exit status says (README, "How plans are ranked")."""
 
     OK = 0
     """Done: the best plan meets every allowance, and every stage of every plan is proved."""
