@@ -2,7 +2,8 @@
 
 Random small boards are solved; for rank 1, every UART divisor and timer prescaler × reload
 is compared with an exact scan written here from the peripherals' formulas (baud = kernel /
-(oversampling × divisor), rate = kernel / (prescaler × reload)), not from clockplan's.
+(oversampling × divisor), rate = kernel / (prescaler × reload); the usual baud-generator
+and timer relations, common practice, no source), not from clockplan's.
 """
 
 from __future__ import annotations
