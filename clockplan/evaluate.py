@@ -11,7 +11,7 @@ import math
 from dataclasses import dataclass
 from fractions import Fraction
 
-from clockplan.interfaces.base import Option, Requirement
+from clockplan.interfaces.base import Option, Requirement, smallest
 from clockplan.plan import Plan, pll_keys
 from clockplan.quantities import format_hz
 from clockplan.scenario import Scenario
@@ -124,8 +124,13 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
     plls = {pll.name: pll for pll in scenario.plls}
     dividers = {divider.name: divider for divider in scenario.dividers}
     muxes = {mux.name: mux for mux in scenario.muxes}
+    source_names = {source.name for source in scenario.sources}
     for name in evaluation_order(scenario):
-        if name in plan.sources:
+        if name in source_names and name not in plan.sources:
+            source = scenario.source(name)
+            violations.append(f"{name}: the plan gives this oscillator no frequency")
+            clocks[name], roots[name] = source.candidates[0], name
+        elif name in plan.sources:
             source = scenario.source(name)
             clocks[name], roots[name] = plan.sources[name], name
             if plan.sources[name] not in source.candidates:
@@ -189,7 +194,7 @@ def _option(plan: Plan, requirement: Requirement, violations: list[str]) -> Opti
     if len(choices) == 1:
         return choices[0]
     index = _setting(plan, requirement.option_setting, range(len(choices)), violations)
-    return choices[index]
+    return choices[index] if index < len(choices) else choices[0]
 
 
 def _setting(
@@ -202,9 +207,12 @@ def _setting(
     value = plan.settings.get(key, default)
     if value is None and len(allowed) == 1:
         return allowed[0]
-    if not isinstance(value, int) or value not in allowed:
+    if isinstance(value, bool) or not isinstance(value, int) or value not in allowed:
+        # Recorded, then carried on: a positive whole value is kept (a what-if plan shows
+        # its rates), anything else becomes the smallest allowed, never a division by zero.
         violations.append(f"{key}: {value!r} is not an allowed value")
-        return allowed[0] if value is None or not isinstance(value, int) else value
+        usable = isinstance(value, int) and not isinstance(value, bool) and value > 0
+        return value if usable else smallest(allowed)
     return value
 
 

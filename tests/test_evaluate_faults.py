@@ -1,0 +1,88 @@
+"""The evaluator's verdicts, fault by fault: each broken plan is named, never a crash.
+
+Each test starts from the bundled board's proved best plan, breaks one thing, and
+requires the evaluator to say so in a violation or a failing rate.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import pytest
+
+from clockplan.evaluate import evaluate_plan
+from clockplan.plan import Plan
+from clockplan.solve import search
+
+
+@pytest.fixture(scope="module")
+def best(default_scenario):
+    return search(default_scenario, top=1).plans[0].plan
+
+
+def _broken(best: Plan, **settings) -> Plan:
+    return replace(best, settings={**best.settings, **settings})
+
+
+def test_the_proved_plan_has_no_violation(default_scenario, best):
+    assert evaluate_plan(default_scenario, best).feasible
+
+
+@pytest.mark.parametrize(
+    ("key", "value"),
+    [
+        ("core.divide", 0),  # not allowed, and a division by zero if it were used
+        ("core.divide", -2),
+        ("core.divide", 10**9),
+        ("core.divide", True),  # a bool is not a count
+        ("core.divide", "2"),
+        ("system.multiplier", 10**6),
+        ("system.reference_divider", 0),
+    ],
+)
+def test_a_setting_outside_its_range_is_a_violation(default_scenario, best, key, value):
+    evaluation = evaluate_plan(default_scenario, _broken(best, **{key: value}))
+    assert any(v.startswith(f"{key}: ") for v in evaluation.violations)
+    assert not evaluation.feasible
+
+
+def test_a_missing_setting_is_a_violation_not_a_key_error(default_scenario, best):
+    for key in best.settings:
+        settings = {k: v for k, v in best.settings.items() if k != key}
+        evaluation = evaluate_plan(default_scenario, replace(best, settings=settings))
+        if evaluation.feasible:  # only a setting with one allowed value may be left out
+            continue
+        assert any(v.startswith(f"{key}: ") for v in evaluation.violations), key
+
+
+def test_a_missing_oscillator_is_a_violation(default_scenario, best):
+    for name in best.sources:
+        sources = {k: v for k, v in best.sources.items() if k != name}
+        evaluation = evaluate_plan(default_scenario, replace(best, sources=sources))
+        assert f"{name}: the plan gives this oscillator no frequency" in evaluation.violations
+
+
+def test_an_oscillator_off_its_candidates_is_a_violation(default_scenario, best):
+    name, hertz = next(iter(best.sources.items()))
+    evaluation = evaluate_plan(
+        default_scenario, replace(best, sources={**best.sources, name: hertz + 1})
+    )
+    assert any("is not among its candidates" in v for v in evaluation.violations)
+
+
+def test_a_vco_out_of_range_is_named(default_scenario, best):
+    # The bundled board's PLL: pushing the multiplier to its largest allowed value
+    # drives the VCO past its top (or the PFD check still names the PLL).
+    pll = default_scenario.plls[0]
+    broken = _broken(best, **{f"{pll.name}.multiplier": max(pll.multiplier)})
+    evaluation = evaluate_plan(default_scenario, broken)
+    assert any(v.startswith(f"{pll.name} VCO at ") for v in evaluation.violations)
+
+
+def test_a_rate_at_half_its_target_fails_its_allowance(default_scenario, best):
+    key = next(k for k in best.settings if k.startswith("console.divisor"))
+    evaluation = evaluate_plan(default_scenario, _broken(best, **{key: best.settings[key] * 2}))
+    check = next(c for c in evaluation.checks if c.requirement.setting == key)
+    assert evaluation.violations == ()
+    assert not check.passes
+    assert not evaluation.feasible
