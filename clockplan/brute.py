@@ -29,9 +29,9 @@ Float keys only shortlist. Each rate's key is a lower bound of the exact key (th
 synthesis error is lowered by ``FLOAT_SLACK`` before rounding up), so a combination whose
 float key is at or above the best exact key cannot beat it. Those below it are re-checked,
 lowest first, with ``Fraction`` arithmetic: divisors chosen exactly, the plan recomputed
-by :func:`clockplan.evaluate.evaluate_plan`, and the key taken from its exact errors:
-``key = ceil(SHARE_STEPS·(ceil(|e|·10**p)/10**p + budget) / allowance)`` per rate, the
-plan's key the maximum. No bound on the objective prunes: every combination that meets
+by :func:`clockplan.evaluate.evaluate_plan`, and the key taken from its exact errors by
+:func:`rate_key` (the worst case |e| + b(1 + e) in the search's steps), the plan's key the
+maximum. No bound on the objective prunes: every combination that meets
 every limit and allowance is scored. At most ``RECHECK_CAP`` re-checks are made; when the
 cap stops them the result says so (``capped``) and its optimum is not proved.
 
