@@ -58,7 +58,8 @@ class Scored:
 
 def best_plan(scenario: Scenario) -> Scored | None:
     """The best plan by the full ranking (goals in the scenario's order, then every rate's
-    share, every rate's error, the smallest settings), or None when no plan fits."""
+    share, every rate's error in steps, then each exact worst case in file order, the
+    smallest settings), or None when no plan fits."""
     best: Scored | None = None
     for scored in all_plans(scenario):
         if best is None or scored.key < best.key:
@@ -99,7 +100,7 @@ def all_plans(scenario: Scenario):  # type: ignore[no-untyped-def]
 
 def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # type: ignore[no-untyped-def]
     settings: dict[str, object] = {}
-    shares, errors, ceilings = [], [], 0
+    shares, errors, exact, ceilings = [], [], [], 0
     worst_share = Fraction(0)
     used = set()
     for peripheral in scenario.peripherals:
@@ -126,6 +127,7 @@ def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # ty
             allowance = requirement.choices[index].allowance
             shares.append(share_steps(error, budget, allowance))
             errors.append(worst_steps(error, budget))
+            exact.append(worst_case(error, budget))
             worst_share = max(worst_share, worst_case(error, budget) / allowance)
     fastest = 0
     for divider in scenario.dividers:
@@ -148,7 +150,8 @@ def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # ty
         order.append(setting[divider.name + ".divide"])
     for mux in scenario.muxes:
         order.append(mux.inputs.index(setting[mux.name + ".input"]))
-    key = (*(goals[goal] for goal in scenario.rank_by), sum(shares), sum(errors), tuple(order))
+    goal_keys = (goals[goal] for goal in scenario.rank_by)
+    key = (*goal_keys, sum(shares), sum(errors), tuple(exact), tuple(order))
     sources = {s.name: setting[s.name] for s in scenario.sources}
     tree = {k: v for k, v in setting.items() if "." in k}
     plan = Plan(sources, {**tree, **settings})  # type: ignore[arg-type]

@@ -48,6 +48,7 @@ __all__ = [
     "SHARE_STEPS",
     "ERROR_DIGITS",
     "LIMIT",
+    "Term",
 ]
 
 SHARE_STEPS = 10_000
@@ -66,7 +67,7 @@ Literal = cp_model.IntVar | bool
 
 
 @dataclass(frozen=True)
-class _Term:
+class Term:
     """A non-negative integer expression of the model with its exact bounds."""
 
     expr: cp_model.LinearExprT
@@ -108,15 +109,21 @@ class RateHandles:
     """Synthesis part of the worst case, steps of 10**-9 (tolerances only)."""
     hertz: cp_model.IntVar | None = None
     """The rate rounded down to whole hertz (ceilings only: made as fast as allowed)."""
+    deviation: cp_model.IntVar | None = None
+    """top·amount − scale·count: the synthesis error e is deviation / scaled_count, exactly."""
+    magnitude: cp_model.IntVar | None = None
+    """|deviation| (tolerances only)."""
+    scaled_count: Term | None = None
+    """scale·count, the error's denominator (tolerances only)."""
 
 
 @dataclass(frozen=True)
 class _Divisor:
     """A rate's own divisor as built: head × last, and which values ``last`` may take."""
 
-    head: _Term
+    head: Term
     """The product of every stage but the last (1 when the divisor is one setting)."""
-    last: _Term
+    last: Term
     ranges: list[tuple[Divisors, Literal]]
     """The allowed values of ``last`` under each option's literal (True when alone)."""
     literals: list[tuple[Option, Literal]]
@@ -145,8 +152,8 @@ class ClockModel:
     model: cp_model.CpModel
     units: dict[str, Fraction] = field(default_factory=dict)
     """Each clock is units[node] × amount / count."""
-    amount: dict[str, _Term] = field(default_factory=dict)
-    count: dict[str, _Term] = field(default_factory=dict)
+    amount: dict[str, Term] = field(default_factory=dict)
+    count: dict[str, Term] = field(default_factory=dict)
     roots: dict[str, dict[str, Literal]] = field(default_factory=dict)
     """For each clock, the sources it may come from and the literal true when it does."""
     source_values: dict[str, cp_model.IntVar] = field(default_factory=dict)
@@ -356,8 +363,8 @@ class _Builder:
         return self.model.new_int_var(low, high, name)
 
     def product(
-        self, left: _Term, right: _Term, name: str, low: int | None = None, high: int | None = None
-    ) -> _Term:
+        self, left: Term, right: Term, name: str, low: int | None = None, high: int | None = None
+    ) -> Term:
         """left × right as a term, held within [low, high] when given (a window the rest of
         the model implies anyway: it keeps the product's variable inside 64 bits)."""
         low = left.low * right.low if low is None else max(low, left.low * right.low)
@@ -367,22 +374,22 @@ class _Builder:
             high = low
         _check(high, name)
         if left.constant and right.constant:
-            return _Term(left.low * right.low, left.low * right.low, left.low * right.low)
+            return Term(left.low * right.low, left.low * right.low, left.low * right.low)
         if left.constant or right.constant:
             constant, other = (left, right) if left.constant else (right, left)
-            term = _Term(
+            term = Term(
                 constant.low * other.expr, constant.low * other.low, constant.low * other.high
             )
             if low > term.low or high < term.high:
                 self.model.add_linear_constraint(term.expr, low, high)
-            return _Term(term.expr, max(low, term.low), min(high, term.high))
+            return Term(term.expr, max(low, term.low), min(high, term.high))
         var = self.int_var(low, high, name)
         self.model.add_multiplication_equality(
             var, [self.plain(left, f"{name}/left"), self.plain(right, f"{name}/right")]
         )
-        return _Term(var, low, high)
+        return Term(var, low, high)
 
-    def plain(self, term: _Term, name: str) -> cp_model.IntVar:
+    def plain(self, term: Term, name: str) -> cp_model.IntVar:
         """The term as a variable of its own (CP-SAT's products presolve badly on scaled ones)."""
         if isinstance(term.expr, cp_model.IntVar):
             return term.expr
@@ -390,16 +397,14 @@ class _Builder:
         self.model.add(var == term.expr)
         return var
 
-    def floor_hertz(
-        self, name: str, unit: Fraction, amount: _Term, count: _Term
-    ) -> cp_model.IntVar:
+    def floor_hertz(self, name: str, unit: Fraction, amount: Term, count: Term) -> cp_model.IntVar:
         """⌊unit · amount / count⌋: a clock in whole hertz, for goals that make it fast."""
         _check(unit.numerator * amount.high, name)
         _check(unit.denominator * count.high, name)
         high = math.floor(unit * Fraction(amount.high, max(count.low, 1)))
         hertz = self.int_var(0, high, f"hertz[{name}]")
         numerator = self.plain(
-            _Term(
+            Term(
                 unit.numerator * amount.expr,
                 unit.numerator * amount.low,
                 unit.numerator * amount.high,
@@ -407,7 +412,7 @@ class _Builder:
             f"hertz[{name}]/numerator",
         )
         denominator = self.plain(
-            _Term(
+            Term(
                 unit.denominator * count.expr,
                 unit.denominator * count.low,
                 unit.denominator * count.high,
@@ -423,8 +428,8 @@ class _Builder:
         self,
         node: str,
         unit: Fraction,
-        amount: _Term,
-        count: _Term,
+        amount: Term,
+        count: Term,
         low: Fraction | None,
         high: Fraction | None,
     ) -> None:
@@ -452,8 +457,8 @@ class _Builder:
         var = self.model.new_int_var_from_domain(cp_model.Domain.from_values(values), f"x[{name}]")
         self.handles.source_values[name] = var
         self.handles.units[name] = unit
-        self.handles.amount[name] = _Term(var, values[0], values[-1])
-        self.handles.count[name] = _Term(1, 1, 1)
+        self.handles.amount[name] = Term(var, values[0], values[-1])
+        self.handles.count[name] = Term(1, 1, 1)
         self.handles.roots[name] = {name: True}
         if len(values) > 1:
             self.orders[name] = [self.preference(name, var, order, values)]
@@ -478,20 +483,20 @@ class _Builder:
         order = [(reference, min(pll.reference_divider), max(pll.reference_divider))]
         order.append((whole, min(pll.multiplier), max(pll.multiplier)))
         modulus = 2**pll.fraction_bits
-        feedback = _Term(
+        feedback = Term(
             modulus * whole, modulus * min(pll.multiplier), modulus * max(pll.multiplier)
         )
         if pll.fraction_bits:
             fraction = self.int_var(0, modulus - 1, fraction_key)
             settings[fraction_key] = fraction
             order.append((fraction, 0, modulus - 1))
-            feedback = _Term(feedback.expr + fraction, feedback.low, feedback.high + modulus - 1)
+            feedback = Term(feedback.expr + fraction, feedback.low, feedback.high + modulus - 1)
         self.orders[pll.name] = order
         handles = self.handles
         amount_in, count_in = handles.amount[pll.input], handles.count[pll.input]
         divided = self.product(
             count_in,
-            _Term(reference, smallest(pll.reference_divider), largest(pll.reference_divider)),
+            Term(reference, smallest(pll.reference_divider), largest(pll.reference_divider)),
             f"count_pfd[{pll.name}]",
         )
         unit = handles.units[pll.input]
@@ -514,7 +519,7 @@ class _Builder:
         self.orders[divider.name] = [(value, min(divider.divide), max(divider.divide))]
         count = self.product(
             handles.count[divider.input],
-            _Term(value, min(divider.divide), max(divider.divide)),
+            Term(value, min(divider.divide), max(divider.divide)),
             f"count[{divider.name}]",
         )
         amount = handles.amount[divider.input]
@@ -543,7 +548,7 @@ class _Builder:
             factor = int(handles.units[name] / unit)
             term = handles.amount[name]
             _check(factor * term.high, mux.name)
-            amounts.append(_Term(factor * term.expr, factor * term.low, factor * term.high))
+            amounts.append(Term(factor * term.expr, factor * term.low, factor * term.high))
         counts = [handles.count[name] for name in mux.inputs]
         amount_var = self.int_var(
             min(t.low for t in amounts), max(t.high for t in amounts), f"amount[{mux.name}]"
@@ -565,8 +570,8 @@ class _Builder:
                     both = self.model.new_bool_var(f"{mux.name}.via[{name},{root}]")
                     self.model.add_multiplication_equality(both, [chosen, active])
                     roots.setdefault(root, []).append(both)
-        amount = _Term(amount_var, _lower(amount_var), _upper(amount_var))
-        count = _Term(count_var, _lower(count_var), _upper(count_var))
+        amount = Term(amount_var, _lower(amount_var), _upper(amount_var))
+        count = Term(count_var, _lower(count_var), _upper(count_var))
         self.frequency_between(mux.name, unit, amount, count, None, mux.maximum)
         handles.amount[mux.name], handles.count[mux.name] = amount, count
         handles.roots[mux.name] = {}
@@ -598,30 +603,30 @@ class _Builder:
         divisor), each option with the literal true when it is chosen."""
         choices = requirement.choices
         if requirement.stages:
-            head: _Term = _Term(1, 1, 1)
+            head: Term = Term(1, 1, 1)
             stages = []
             for name, values in requirement.stages:
                 stage = self.choice(requirement.stage_setting(name), values)
                 stages.append((stage, values))
             for (stage, values), (name, _) in zip(stages[:-1], requirement.stages, strict=False):
-                term = _Term(stage, smallest(values), largest(values))
+                term = Term(stage, smallest(values), largest(values))
                 head = self.product(head, term, f"{requirement.setting}*{name}")
             last, values = stages[-1]
             return _Divisor(
                 head,
-                _Term(last, smallest(values), largest(values)),
+                Term(last, smallest(values), largest(values)),
                 [(values, True)],
                 [(choices[0], True)],
                 tuple(stage for stage, _ in stages),
             )
         low = min(smallest(option.divisors) for option in choices)
         high = max(largest(option.divisors) for option in choices)
-        one = _Term(1, 1, 1)
+        one = Term(1, 1, 1)
         if len(choices) == 1:
             var = self.choice(requirement.setting, choices[0].divisors)
             only = choices[0]
             return _Divisor(
-                one, _Term(var, low, high), [(only.divisors, True)], [(only, True)], (var,)
+                one, Term(var, low, high), [(only.divisors, True)], [(only, True)], (var,)
             )
         shared = _shared_prescaler(choices)
         index = self.int_var(0, len(choices) - 1, requirement.option_setting)
@@ -633,8 +638,8 @@ class _Builder:
             self.model.add_element(index, factors, quanta)
             prescaler = self.choice(f"prescaler[{requirement.setting}]", shared)
             return _Divisor(
-                _Term(quanta, min(factors), max(factors)),
-                _Term(prescaler, smallest(shared), largest(shared)),
+                Term(quanta, min(factors), max(factors)),
+                Term(prescaler, smallest(shared), largest(shared)),
                 [(shared, True)],
                 [(option, True) for option in choices],
                 (index, prescaler),
@@ -653,11 +658,11 @@ class _Builder:
             self.model.add_linear_expression_in_domain(var, domain).only_enforce_if(chosen)
             literals.append((option, chosen))
         values = [(option.divisors, chosen) for option, chosen in literals]
-        return _Divisor(one, _Term(var, low, high), values, literals, (var, index))
+        return _Divisor(one, Term(var, low, high), values, literals, (var, index))
 
     def counts(
         self, requirement: Requirement, node: str, divisor: _Divisor, low: int, high: int
-    ) -> tuple[_Term, _Term]:
+    ) -> tuple[Term, Term]:
         """``base`` = the node's count × every stage but the last, and ``count`` = base ×
         the last, held within [low, high] (the window the rate's limits imply)."""
         count_in = self.handles.count[node]
@@ -678,7 +683,7 @@ class _Builder:
         divisor: _Divisor,
         deviation: cp_model.LinearExprT,
         scale: int,
-        base: _Term,
+        base: Term,
     ) -> None:
         """The divisor sits next to the ideal one: the best divisor for the clock always does
         (the error falls on one side of the ideal and rises on the other), so nothing better is
@@ -760,7 +765,7 @@ class _Builder:
                 self.model.add(
                     slow.numerator * top * amount.expr >= slow.denominator * scale * count.expr
                 ).only_enforce_if(enforce + kept)
-        numerator = _Term(
+        numerator = Term(
             requirement.numerator * amount.expr,
             requirement.numerator * amount.low,
             requirement.numerator * amount.high,
@@ -778,8 +783,8 @@ class _Builder:
         fasts: Mapping[str, Fraction],
         top: int,
         scale: int,
-        base: _Term,
-        count: _Term,
+        base: Term,
+        count: Term,
     ) -> None:
         """Under a ceiling the best divisor is the smallest the maximum allows: one step less
         would be too fast (unless it is the first value). Nothing better is cut off."""
@@ -964,7 +969,7 @@ class _Rate:
             0, max(-_lower(deviation), _upper(deviation)), f"abs_deviation[{self.key}]"
         )
         self.model.add_abs_equality(magnitude, deviation)
-        denominator = _Term(scale * count.expr, scale * count.low, scale * count.high)
+        denominator = Term(scale * count.expr, scale * count.low, scale * count.high)
         if divisor.index is None:
             for _, budget, _, enforce, room in serving:
                 if room >= 0:
@@ -984,7 +989,18 @@ class _Rate:
             handles.limits[key] = replace(handles.limits[key], share=share)
         builder.shares.append(share)
         builder.worsts.append(worst)
-        handles.rates.append(RateHandles(requirement, self.node, self.decisions, share, worst))
+        handles.rates.append(
+            RateHandles(
+                requirement,
+                self.node,
+                self.decisions,
+                share,
+                worst,
+                deviation=deviation,
+                magnitude=magnitude,
+                scaled_count=denominator,
+            )
+        )
 
     def restrict_options(self, serving: list[tuple], held: list[cp_model.IntVar]) -> None:
         """With the options as a table: from each source, only the options it can serve."""
@@ -1051,7 +1067,7 @@ class _Rate:
         self,
         deviation: cp_model.IntVar,
         magnitude: cp_model.IntVar,
-        denominator: _Term,
+        denominator: Term,
         budget: Fraction,
         room: Fraction,
         enforce: list[cp_model.IntVar],
@@ -1071,7 +1087,7 @@ class _Rate:
         ).only_enforce_if(enforce)
 
     def error_steps(
-        self, magnitude: cp_model.IntVar, denominator: _Term, widest: Fraction
+        self, magnitude: cp_model.IntVar, denominator: Term, widest: Fraction
     ) -> cp_model.IntVar:
         """E = ⌊10⁹·⌈|dev|/2^k⌉ / ⌊scale·count/2^k⌋⌋ + 1: the error in steps of 10⁻⁹, counted
         up to the next step. With k = 0 (when 64 bits allow) that is exactly ⌊10⁹·|e|⌋ + 1;

@@ -9,11 +9,15 @@
 2. every rate's share (their sum in steps: no rate can improve without another worsening);
 3. every rate's worst-case error (their sum in steps of 10**-9), the same rule at a finer
    grain, so that errors far below the share's resolution still count;
-4. the smallest settings, in a fixed order (sources, PLLs, dividers, muxes in file order):
+4. each rate in file order at its least exact worst case |e| + b(1 + e): what the steps
+   cannot tell apart is settled in fractions (a rate whose steps are only an upper bound,
+   listed in ``bounded_errors``, keeps its steps);
+5. the smallest settings, in a fixed order (sources, PLLs, dividers, muxes in file order):
    the plan is unique.
 
-Each stage is a CP-SAT solve that must end OPTIMAL; its value is then held (by narrowing
-the domain of the variable that carries it) for the stages after it. A rate's own settings
+Each stage is a CP-SAT solve (or a few) that must end OPTIMAL; its value is then held (by
+narrowing the domain of the variable that carries it, or by constraints enforced for this
+rank only) for the stages after it. A rate's own settings
 are not searched: :mod:`clockplan.settle` computes them exactly for the clock that feeds it.
 Nothing depends on wall-clock time except whether a stage is proved before the time
 limit; a stage the limit cuts short is reported by name and the plan is marked unproved.
@@ -24,6 +28,7 @@ the set of oscillators the plan uses with their frequencies.
 
 from __future__ import annotations
 
+import math
 import time
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -39,7 +44,7 @@ from clockplan.plan import Plan
 from clockplan.result import RankedPlan, SearchResult, Stage, Status
 from clockplan.scenario import Scenario
 from clockplan.settle import settle_settings
-from clockplan.solve.model import ERROR_DIGITS, ClockModel, build_model
+from clockplan.solve.model import ERROR_DIGITS, ClockModel, RateHandles, build_model
 
 __all__ = [
     "search",
@@ -63,6 +68,7 @@ STAGE_NAMES = {
     "ceilings": "ceiling rates",
     "shares": "sum of shares",
     "errors": "sum of errors",
+    "exact": "exact errors",
     "settings": "smallest settings",
 }
 """Each ranking criterion's name as printed."""
@@ -70,7 +76,7 @@ STAGE_NAMES = {
 
 def ranking_order(scenario: Scenario) -> tuple[str, ...]:
     """The stages of the ranking, most important first (criteria keys of STAGE_NAMES)."""
-    return (*scenario.rank_by, "shares", "errors", "settings")
+    return (*scenario.rank_by, "shares", "errors", "exact", "settings")
 
 
 def search(
@@ -204,8 +210,17 @@ class _Ranker:
         self.solver: cp_model.CpSolver | None = None
         self.time_limited = False
         self.interrupted = False
+        self.switches: list[cp_model.IntVar] = []
+        """Literals that hold this rank's added constraints, all released when it ends."""
 
     def solve(self) -> _Found:
+        try:
+            return self.stages_in_order()
+        finally:
+            for switch in self.switches:
+                _set_domain(switch, [0, 0])
+
+    def stages_in_order(self) -> _Found:
         self.model.clear_hints()
         stopped = False
         for key in self.order:
@@ -246,6 +261,8 @@ class _Ranker:
         """Solve one stage and hold its value; "done", "cut" (not proved) or "none"."""
         if key == "settings":
             return self.settings_stage(name)
+        if key == "exact":
+            return self.exact_stage(name)
         target, maximize = self.objective(key)
         if target is None:
             return "done"
@@ -288,7 +305,155 @@ class _Ranker:
         self.stages.append(Stage(name, True))
         return "done"
 
-    def run(self, objective: cp_model.LinearExprT | None, *, minimize: bool) -> str:
+    def exact_stage(self, name: str) -> str:
+        """Each rate in file order at its least exact worst case among the plans tied so far,
+        then held there: what the steps of 10**-9 cannot tell apart is settled exactly."""
+        for rate in self.handles.rates:
+            if rate.magnitude is None or rate.requirement.setting in self.handles.bounded_errors:
+                continue  # no tolerance, or its steps are an upper bound: nothing exact to settle
+            outcome = self.least_worst_case(rate)
+            if outcome != "done":
+                self.stages.append(Stage(name, False))
+                return outcome
+        self.stages.append(Stage(name, True))
+        return "done"
+
+    def least_worst_case(self, rate: RateHandles) -> str:
+        """Hold the rate at its least exact worst case among the plans tied so far.
+
+        The worst case is b + |e|(1 ± b), so within one class (an oscillator, fast or slow) it
+        is least where |e| is: each class's least |e| is found exactly (Dinkelbach's method on
+        the ratio |deviation| / scaled count) and the classes are compared in fractions. A
+        class is skipped when even the least |e| of all cannot beat the best so far; exact
+        ties go to the earlier class (oscillators in file order, fast before slow)."""
+        assert rate.scaled_count is not None and self.solver is not None
+        roots = self.handles.roots[rate.node]
+        budgets = {root: self.handles.scenario.source(root).budget for root in roots}
+        classes = [(root, fast) for root in roots for fast in (True, False)]
+        start = self.solver
+        least_class = _class_of(rate, roots, start)
+        if len(roots) == 1 and start.value(rate.deviation) == 0:
+            self.hold_error(rate, least_class, Fraction(0), self.switch())
+            return "done"
+        outcome, least = self.least_error(rate, None)
+        if outcome == "big":
+            return "done"  # too large to compare exactly: the steps of 10**-9 stand
+        if outcome != "done" or least is None:
+            return outcome
+        least_class = _class_of(rate, roots, self.solver)
+        best = (_worst_case(least, budgets, least_class), classes.index(least_class))
+        best_error, best_solver = least, self.solver
+        for index, (root, fast) in enumerate(classes):
+            lower = _worst_case(least, budgets, (root, fast))
+            if index == best[1] or (lower, index) > best:
+                continue
+            outcome, error = self.least_error(rate, (root, fast), best[0])
+            if outcome == "big":
+                return "done"
+            if outcome != "done":
+                return outcome
+            if error is None:
+                continue
+            worst = _worst_case(error, budgets, (root, fast))
+            if (worst, index) < best:
+                best, best_error, best_solver = (worst, index), error, self.solver
+        self.solver = best_solver
+        self.hint(best_solver)
+        self.hold_error(rate, classes[best[1]], best_error, self.switch())
+        return "done"
+
+    def least_error(
+        self, rate: RateHandles, within: tuple[str, bool] | None, below: Fraction | None = None
+    ) -> tuple[str, Fraction | None]:
+        """The least exact |e| of the rate among the plans held so far (within a class, whose
+        worst case could reach ``below``); "big" when the numbers pass 64 bits."""
+        assert rate.scaled_count is not None
+        if within is None:
+            assert self.solver is not None
+            current = _error_of(rate, self.solver)
+        else:
+            root, fast = within
+            budget = self.handles.scenario.source(root).budget
+            assert below is not None
+            room = max((below - budget) / (1 + budget if fast else 1 - budget), Fraction(0))
+            trial = self.switch()
+            if self.hold_error(rate, within, room, trial, strict=False) == "big":
+                return "big", None
+            outcome = self.run(None, minimize=True, may_fail=True)
+            _set_domain(trial, [0, 0])
+            if outcome != "done":
+                return ("done", None) if outcome == "none" else (outcome, None)
+            assert self.solver is not None
+            current = _error_of(rate, self.solver)
+        while current > 0:
+            trial = self.switch()
+            gap = self.hold_error(rate, within, current, trial, objective=True)
+            if isinstance(gap, str):
+                return "big", None
+            outcome = self.run(gap, minimize=True)
+            _set_domain(trial, [0, 0])
+            if outcome != "done":
+                return outcome, None
+            assert self.solver is not None
+            improved = _error_of(rate, self.solver)
+            if improved >= current:
+                break
+            current = improved
+        return "done", current
+
+    def hold_error(
+        self,
+        rate: RateHandles,
+        within: tuple[str, bool] | None,
+        error: Fraction,
+        switch: cp_model.IntVar,
+        *,
+        strict: bool = True,
+        objective: bool = False,
+    ) -> str | cp_model.LinearExprT:
+        """While ``switch`` holds: the rate in the class ``within`` (when given) with
+        |e| ≤ error = p/q, as q·|deviation| ≤ p·scaled count. With ``objective``, return
+        q·|deviation| − p·scaled count to minimise instead of holding it. Without ``strict``
+        only the bound the error puts on |deviation| is held. "big" past 64 bits."""
+        assert rate.magnitude is not None and rate.deviation is not None
+        assert rate.scaled_count is not None
+        model, scaled = self.model, rate.scaled_count
+        p, q = error.numerator, error.denominator
+        limit = math.floor(error * scaled.high)
+        if strict and max(q * limit, p * scaled.high) > TERM_LIMIT:
+            self.handles.bounded_errors.add(rate.requirement.setting)
+            return "big"
+        # copies with narrow domains, so that CP-SAT sees the terms' true bounds
+        key = rate.requirement.setting
+        magnitude = model.new_int_var(0, limit, f"tie_magnitude[{key}]")
+        deviation = model.new_int_var(-limit, limit, f"tie_deviation[{key}]")
+        model.add(magnitude == rate.magnitude).only_enforce_if(switch)
+        model.add(deviation == rate.deviation).only_enforce_if(switch)
+        if within is not None:
+            root, fast = within
+            active = self.handles.roots[rate.node][root]
+            if active is not True:
+                model.add_bool_and([active]).only_enforce_if(switch)
+            model.add(deviation >= 0 if fast else deviation <= -1).only_enforce_if(switch)
+        if not strict:
+            return "done"
+        count = model.new_int_var(scaled.low, scaled.high, f"tie_count[{key}]")
+        model.add(count == scaled.expr).only_enforce_if(switch)
+        if objective:
+            return q * magnitude - p * count
+        model.add(q * magnitude <= p * count).only_enforce_if(switch)
+        return "done"
+
+    def switch(self) -> cp_model.IntVar:
+        """A literal fixed true that enforces constraints until the rank ends."""
+        literal = self.model.new_bool_var("switch")
+        _set_domain(literal, [1, 1])
+        self.switches.append(literal)
+        return literal
+
+    def run(
+        self, objective: cp_model.LinearExprT | None, *, minimize: bool, may_fail: bool = False
+    ) -> str:
         """One CP-SAT solve: "done" (proved), "cut" (a plan, not proved) or "none" (no plan:
         proved, or the time limit came before any)."""
         model = self.model
@@ -310,7 +475,7 @@ class _Ranker:
         if status == cp_model.OPTIMAL and not interrupted:
             return "done"
         if status == cp_model.INFEASIBLE and not interrupted:
-            if self.solver is not None:
+            if self.solver is not None and not may_fail:
                 raise InternalError("a stage held at its proved value left no plan")
             return "none"
         self.time_limited |= not interrupted
@@ -321,6 +486,36 @@ class _Ranker:
         self.model.clear_hints()
         for var in self.handles.decisions:
             self.model.add_hint(var, solver.value(var))
+
+
+TERM_LIMIT = 2**59
+"""Largest term of a tie's linear form: four such terms stay within CP-SAT's 2**62."""
+
+
+def _error_of(rate: RateHandles, solver: cp_model.CpSolver) -> Fraction:
+    """The rate's exact |e| in the solution."""
+    assert rate.magnitude is not None and rate.scaled_count is not None
+    return Fraction(int(solver.value(rate.magnitude)), int(solver.value(rate.scaled_count.expr)))
+
+
+def _class_of(
+    rate: RateHandles, roots: dict[str, cp_model.IntVar | bool], solver: cp_model.CpSolver
+) -> tuple[str, bool]:
+    """The solution's oscillator for the rate, and whether the rate runs fast (e ≥ 0)."""
+    root = next(name for name, active in roots.items() if _holds(solver, active))
+    return root, solver.value(rate.deviation) >= 0
+
+
+def _worst_case(
+    error: Fraction, budgets: dict[str, Fraction], within: tuple[str, bool]
+) -> Fraction:
+    """b + |e|(1 ± b): the exact worst case of an error of this size in this class."""
+    budget = budgets[within[0]]
+    return budget + error * (1 + budget if within[1] else 1 - budget)
+
+
+def _holds(solver: cp_model.CpSolver, literal: cp_model.IntVar | bool) -> bool:
+    return literal if isinstance(literal, bool) else bool(solver.boolean_value(literal))
 
 
 def _bounds(var: cp_model.IntVar) -> tuple[int, int]:
