@@ -7,11 +7,13 @@ requires the evaluator to say so in a violation or a failing rate.
 from __future__ import annotations
 
 from dataclasses import replace
+from pathlib import Path
 
 import pytest
 
 from clockplan.evaluate import evaluate_plan
 from clockplan.plan import Plan
+from clockplan.scenario import load_scenario
 from clockplan.solve import search
 
 
@@ -86,3 +88,24 @@ def test_a_rate_at_half_its_target_fails_its_allowance(default_scenario, best):
     assert evaluation.violations == ()
     assert not check.passes
     assert not evaluation.feasible
+
+
+@pytest.fixture(scope="module")
+def gateway():
+    scenario = load_scenario(Path(__file__).parent.parent / "scenarios" / "factory-gateway.toml")
+    return scenario, search(scenario, top=1).plans[0].plan
+
+
+@pytest.mark.parametrize("index", [7, -1, 10**6, True, "6"])
+def test_a_can_timing_option_past_the_list_is_a_violation(gateway, index):
+    # The CAN bus rate offers 7 bit timings (options 0..6): any other index is named.
+    scenario, best = gateway
+    key = "fieldbus.bit_divisor_option"
+    evaluation = evaluate_plan(scenario, _broken(best, **{key: index}))
+    assert any(v.startswith(f"{key}: ") for v in evaluation.violations), evaluation.violations
+    assert not evaluation.feasible
+
+
+def test_the_gateway_plan_has_no_violation(gateway):
+    scenario, best = gateway
+    assert evaluate_plan(scenario, best).feasible
