@@ -56,7 +56,7 @@ from clockplan.evaluate import Evaluation, evaluate_plan
 from clockplan.interfaces.base import Divisors, Requirement
 from clockplan.plan import Plan, SettingValue, pll_keys
 from clockplan.scenario import Scenario
-from clockplan.tree import evaluation_order
+from clockplan.topology import evaluation_order
 
 __all__ = [
     "Enumeration",

@@ -22,8 +22,6 @@ from clockplan.text_safety import MAX_QUOTED, printable, shorten
 
 __all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
 
-EXIT_BAD_INPUT = Exit.BAD_INPUT
-
 
 class OneLineParser(argparse.ArgumentParser):
     """An argument parser whose usage errors are one line on standard error and exit 2.
@@ -33,7 +31,7 @@ class OneLineParser(argparse.ArgumentParser):
 
     def error(self, message: str) -> NoReturn:
         """Report a usage error as ``clockplan: <message>`` and exit 2."""
-        self.exit(EXIT_BAD_INPUT, f"clockplan: {safe_line(message)}; see '{self.prog} --help'\n")
+        self.exit(Exit.BAD_INPUT, f"clockplan: {safe_line(message)}; see '{self.prog} --help'\n")
 
 
 def one_line(message: str) -> str:
@@ -85,12 +83,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     command = _command_named(words)
     if command is None and words == ["--version"]:  # answer without importing every command
         print(f"clockplan {__version__}")
-        return 0
+        return Exit.OK
     parser = build_parser(command)
     try:
         args = parser.parse_args(words)
     except SystemExit as stop:  # --help, --version, or a usage error already reported
-        return stop.code if isinstance(stop.code, int) else EXIT_BAD_INPUT
+        return stop.code if isinstance(stop.code, int) else Exit.BAD_INPUT
     args.started = started
     try:
         return int(args.func(args))
@@ -105,13 +103,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.debug:
             raise
         print(f"clockplan: {safe_line(str(error))}", file=sys.stderr)
-        return EXIT_BAD_INPUT
+        return Exit.BAD_INPUT
     except KeyboardInterrupt:
         print("clockplan: interrupted", file=sys.stderr)
         return Exit.INTERRUPTED
     except BrokenPipeError:  # the reader went away (`clockplan plan --json | head`)
         sys.stdout = open(os.devnull, "w")  # so the flush at exit raises nothing more
-        return 0
+        return Exit.OK
 
 
 def main_entry() -> None:

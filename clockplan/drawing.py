@@ -14,7 +14,7 @@ from xml.sax.saxutils import escape, quoteattr
 
 import networkx as nx
 
-from clockplan.graphs import AT_RISK, FAIL
+from clockplan.text import AT_RISK, FAIL
 
 __all__ = ["plan_svg"]
 

@@ -8,6 +8,7 @@ Only the interpreter's own start and this module's two imports come before the g
 import sys
 
 EXIT_INTERRUPTED = 130
+"""``clockplan.exits.Exit.INTERRUPTED``, written out so nothing is imported before the guard."""
 
 
 def main_entry() -> None:

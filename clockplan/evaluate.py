@@ -14,8 +14,9 @@ from fractions import Fraction
 from clockplan.interfaces.base import Option, Requirement, smallest
 from clockplan.plan import Plan, pll_keys
 from clockplan.quantities import format_hz
-from clockplan.scenario import Scenario
-from clockplan.tree import evaluation_order
+from clockplan.scenario import Divider, Mux, Pll, Scenario
+from clockplan.sources import Source
+from clockplan.topology import evaluation_order
 
 __all__ = ["RateCheck", "Evaluation", "evaluate_plan"]
 
@@ -121,45 +122,43 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
     clocks: dict[str, Fraction] = {}
     roots: dict[str, str] = {}
     violations: list[str] = []
-    plls = {pll.name: pll for pll in scenario.plls}
-    dividers = {divider.name: divider for divider in scenario.dividers}
-    muxes = {mux.name: mux for mux in scenario.muxes}
-    source_names = {source.name for source in scenario.sources}
     for name in evaluation_order(scenario):
-        if name in source_names and name not in plan.sources:
-            source = scenario.source(name)
-            violations.append(f"{name}: the plan gives this oscillator no frequency")
-            clocks[name], roots[name] = source.candidates[0], name
-        elif name in plan.sources:
-            source = scenario.source(name)
-            clocks[name], roots[name] = plan.sources[name], name
-            if plan.sources[name] not in source.candidates:
-                violations.append(f"{name}: {plan.sources[name]} Hz is not among its candidates")
-        elif name in plls:
-            pll = plls[name]
+        node = scenario.node(name)
+        if isinstance(node, Source):
+            if name in plan.sources:
+                clocks[name] = plan.sources[name]
+                if plan.sources[name] not in node.candidates:
+                    violations.append(
+                        f"{name}: {plan.sources[name]} Hz is not among its candidates"
+                    )
+            else:
+                violations.append(f"{name}: the plan gives this oscillator no frequency")
+                clocks[name] = node.candidates[0]
+            roots[name] = name
+        elif isinstance(node, Pll):
             reference_key, multiplier_key, fraction_key = pll_keys(name)
-            reference = _setting(plan, reference_key, pll.reference_divider, violations)
-            whole = _setting(plan, multiplier_key, pll.multiplier, violations)
-            fraction = _setting(plan, fraction_key, range(2**pll.fraction_bits), violations, 0)
-            detector = clocks[pll.input] / reference
-            _within(f"{name} PFD", detector, pll.pfd, violations)
-            clocks[name] = detector * (whole + Fraction(fraction, 2**pll.fraction_bits))
-            roots[name] = roots[pll.input]
-            _within(f"{name} VCO", clocks[name], pll.vco, violations)
-        elif name in dividers:
-            divider = dividers[name]
-            value = _setting(plan, f"{name}.divide", divider.divide, violations)
-            clocks[name] = clocks[divider.input] / value
-            roots[name] = roots[divider.input]
-            _within(name, clocks[name], (divider.minimum, divider.maximum), violations)
-        else:
-            mux = muxes[name]
+            reference = _setting(plan, reference_key, node.reference_divider, violations)
+            whole = _setting(plan, multiplier_key, node.multiplier, violations)
+            fraction = _setting(plan, fraction_key, range(2**node.fraction_bits), violations, 0)
+            detector = clocks[node.input] / reference
+            _within(f"{name} PFD", detector, node.pfd, violations)
+            clocks[name] = detector * (whole + Fraction(fraction, 2**node.fraction_bits))
+            roots[name] = roots[node.input]
+            _within(f"{name} VCO", clocks[name], node.vco, violations)
+        elif isinstance(node, Divider):
+            value = _setting(plan, f"{name}.divide", node.divide, violations)
+            clocks[name] = clocks[node.input] / value
+            roots[name] = roots[node.input]
+            _within(name, clocks[name], (node.minimum, node.maximum), violations)
+        elif isinstance(node, Mux):
             chosen = plan.settings.get(f"{name}.input")
-            if chosen not in mux.inputs:
-                violations.append(f"{name}.input: {chosen!r} is not one of {', '.join(mux.inputs)}")
-                chosen = mux.inputs[0]
+            if chosen not in node.inputs:
+                violations.append(
+                    f"{name}.input: {chosen!r} is not one of {', '.join(node.inputs)}"
+                )
+                chosen = node.inputs[0]
             clocks[name], roots[name] = clocks[str(chosen)], roots[str(chosen)]
-            _within(name, clocks[name], (None, mux.maximum), violations)
+            _within(name, clocks[name], (None, node.maximum), violations)
     checks = []
     for peripheral in scenario.peripherals:
         kernel = clocks[peripheral.clock]

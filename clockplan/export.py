@@ -6,14 +6,22 @@ Figures in ppm and shares are floats, for reading only.
 
 from __future__ import annotations
 
+from dataclasses import asdict
 from fractions import Fraction
 from typing import Any
 
+from clockplan.compare import Change, Side
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import exact_string
 from clockplan.result import Explanation, RankedPlan, SearchResult
 
-__all__ = ["result_to_data", "plan_to_data", "check_to_data", "explanation_to_data"]
+__all__ = [
+    "result_to_data",
+    "plan_to_data",
+    "check_to_data",
+    "explanation_to_data",
+    "changes_to_data",
+]
 
 
 def result_to_data(result: SearchResult) -> dict[str, Any]:
@@ -126,3 +134,24 @@ def check_to_data(check: RateCheck) -> dict[str, Any]:
 
 def _ppm(value: object) -> float:
     return round(float(value) * 1e6, 6)  # type: ignore[arg-type]
+
+
+def changes_to_data(a: Side, b: Side, changes: tuple[Change, ...]) -> dict[str, Any]:
+    """The plans compared and what differs between them, as ``clockplan diff --json`` prints."""
+    return {
+        "a": _side_to_data(a),
+        "b": _side_to_data(b),
+        "changes": [
+            {key: value for key, value in asdict(change).items() if not key.endswith("_text")}
+            for change in changes
+        ],
+    }
+
+
+def _side_to_data(side: Side) -> dict[str, object]:
+    return {
+        "scenario": side.scenario.title,
+        "file": side.scenario.file,
+        "rank": side.ranked.rank,
+        "status": side.ranked.status.value,
+    }

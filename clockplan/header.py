@@ -15,11 +15,18 @@ from fractions import Fraction
 from clockplan import __version__
 from clockplan.errors import ClockplanError
 from clockplan.evaluate import RateCheck
-from clockplan.graphs import exact_decimal, limit_text, rate_settings, rate_verdict, register_value
 from clockplan.quantities import exact_string, format_hz, format_relative
-from clockplan.render import format_rate
-from clockplan.scenario import Scenario
-from clockplan.solve import RankedPlan
+from clockplan.result import RankedPlan
+from clockplan.scenario import Mux, Scenario
+from clockplan.text import (
+    exact_decimal,
+    format_rate,
+    format_share,
+    limit_text,
+    rate_settings,
+    rate_verdict,
+    register_value,
+)
 from clockplan.text_safety import printable
 
 __all__ = ["DEFAULT_PREFIX", "c_identifier", "header_text"]
@@ -78,17 +85,17 @@ def header_text(scenario: Scenario, ranked: RankedPlan, *, prefix: str = DEFAULT
         defines[name] = key
         lines.append(f"#define {name} {value}" + (f" /* {_comment(comment)} */" if comment else ""))
 
-    muxes = {mux.name: mux for mux in scenario.muxes}
     for name in scenario.clock_names:
+        clock = scenario.node(name)
         hz = evaluation.clocks[name]
         lines.append(f"/* {_comment(name)}: {_comment(_frequency_comment(hz))} */")
         for key, value in plan.settings.items():
             node, setting = key.split(".", 1)
             if node != name:
                 continue
-            if name in muxes:
-                index = muxes[name].inputs.index(str(value))
-                inputs = ", ".join(f"{i} {n}" for i, n in enumerate(muxes[name].inputs))
+            if isinstance(clock, Mux):
+                index = clock.inputs.index(str(value))
+                inputs = ", ".join(f"{i} {n}" for i, n in enumerate(clock.inputs))
                 define(c_identifier(prefix, key), str(index), f"{value} (inputs: {inputs})", key)
             else:
                 define(c_identifier(prefix, key), str(value), "", key)
@@ -126,7 +133,7 @@ def _rate_comment(check: RateCheck) -> str:
     if requirement.ceiling:
         return (
             f"{requirement.label}: {achieved}, limit {limit_text(check)}: with the budget at "
-            f"most {float(check.share) * 100:.2f} % of it, {rate_verdict(check)}"
+            f"most {format_share(check.share)} of it, {rate_verdict(check)}"
         )
     return (
         f"{requirement.label}: {achieved}, error {format_relative(check.error, signed=True)}, "

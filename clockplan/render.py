@@ -7,9 +7,11 @@ from fractions import Fraction
 from rich.table import Table
 from rich.text import Text
 
+from clockplan.compare import Change, Side
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import STATUS_WORDS, Explanation, RankedPlan, SearchResult
+from clockplan.text import format_rate, format_share, limit_text, proof_text
 from clockplan.text_safety import printable
 
 __all__ = [
@@ -17,11 +19,9 @@ __all__ = [
     "rates_table",
     "status_line",
     "share_text",
-    "format_rate",
     "explanation_text",
     "budget_table",
-    "format_share",
-    "proof_text",
+    "changes_table",
 ]
 
 
@@ -44,16 +44,6 @@ def status_line(result: SearchResult) -> Text:
         line.append("\n  no other oscillator choice has a plan (proved)")
     line.append(f"\n  ranked by, in order: {', '.join(result.order)}", style="dim")
     return line
-
-
-def format_share(share: Fraction) -> str:
-    """A share of an allowance as a percentage, as every output prints it."""
-    return f"{float(share) * 100:.2f} %"
-
-
-def proof_text(ranked: RankedPlan) -> str:
-    """ "proved", or the first stage the time limit stopped."""
-    return "proved" if not ranked.unproved else f"not proved: {ranked.unproved[0]}"
 
 
 def share_text(share: Fraction) -> Text:
@@ -148,37 +138,16 @@ def _rate_cells(check: RateCheck) -> list[str | Text]:
     label = (
         f"{requirement.label} ({check.option.label})" if check.option.label else requirement.label
     )
-    if requirement.ceiling:
-        limit = f"≤ {format_rate(requirement.target, requirement.unit)}"
-        if requirement.floor is not None:
-            limit = f"{format_rate(requirement.floor, requirement.unit)} .. " + limit[2:]
-        return [
-            requirement.peripheral,
-            label,
-            format_rate(check.achieved, requirement.unit),
-            format_relative(check.error, signed=True),
-            format_relative(check.worst_case, signed=True),
-            limit,
-            share_text(check.share),
-            mark,
-        ]
     return [
         requirement.peripheral,
         label,
         format_rate(check.achieved, requirement.unit),
         format_relative(check.error, signed=True),
-        format_relative(check.worst_case),
-        format_relative(check.allowance),
+        format_relative(check.worst_case, signed=requirement.ceiling),
+        limit_text(check),
         share_text(check.share),
         mark,
     ]
-
-
-def format_rate(value: Fraction, unit: str) -> str:
-    """A rate in hertz with a readable prefix, or in baud as a plain number."""
-    if unit == "baud":
-        return f"{float(value):.7g} Bd"
-    return format_hz(value)
 
 
 def explanation_text(explanation: Explanation) -> Text:
@@ -207,3 +176,20 @@ def explanation_text(explanation: Explanation) -> Text:
             text.append(f"  - {line}\n")
     text.rstrip()
     return text
+
+
+def changes_table(a: Side, b: Side, changes: tuple[Change, ...]) -> Table:
+    """The changes as a table, node by node; a node's name is shown on its first row only."""
+    table = Table(title="What changed from plan A to plan B", title_justify="left")
+    table.add_column("node")
+    table.add_column("what")
+    table.add_column(f"A: rank {a.ranked.rank}", justify="right")
+    table.add_column(f"B: rank {b.ranked.rank}", justify="right")
+    previous = None
+    for change in changes:
+        what = f"{change.aspect} {change.item}".strip()
+        table.add_row(
+            change.node if change.node != previous else "", what, change.a_text, change.b_text
+        )
+        previous = change.node
+    return table

@@ -9,16 +9,22 @@ from __future__ import annotations
 import re
 
 from clockplan import __version__
-from clockplan.evaluate import RateCheck
-from clockplan.graphs import limit_text, rate_setting_text, rate_verdict, setting_text
+from clockplan.interfaces import Peripheral
 from clockplan.quantities import exact_string, format_hz, format_relative
-from clockplan.render import format_rate
-from clockplan.result import STATUS_WORDS, RankedPlan, SearchResult, Status
+from clockplan.result import STATUS_WORDS, RankedPlan, SearchResult
 from clockplan.scenario import Scenario
+from clockplan.text import (
+    format_rate,
+    format_share,
+    limit_text,
+    rate_setting_text,
+    rate_verdict,
+    setting_text,
+)
 from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
 
-__all__ = ["report_text", "status_words", "CAUTIONS"]
+__all__ = ["report_text", "CAUTIONS"]
 
 CAUTIONS = (
     "Check the crystal's datasheet for its load capacitance, drive level and "
@@ -36,18 +42,9 @@ TERMS = ("tolerance", "stability", "aging", "pulling")
 """The oscillator budget's terms, in the order the report lists them."""
 
 
-def status_words(status: Status) -> str:
-    """What a search status means, in words; "optimal" only when proved."""
-    return STATUS_WORDS[status]
-
-
 def _md(text: object) -> str:
     """Text safe in Markdown prose and table cells."""
     return re.sub(r"([\\`*_\[\]<>|#])", r"\\\1", printable(str(text)))
-
-
-def _share(check: RateCheck) -> str:
-    return f"{float(check.share) * 100:.2f} %"
 
 
 def report_text(result: SearchResult, ranked: RankedPlan) -> str:
@@ -75,12 +72,12 @@ def _job(result: SearchResult, ranked: RankedPlan) -> str:
         f"# Clock plan: {_md(scenario.title)}",
         "",
         f"- Scenario file: {_md(scenario.file)}",
-        f"- Search: {status_words(result.status)}, {len(result.plans)} plan(s) ranked "
+        f"- Search: {STATUS_WORDS[result.status]}, {len(result.plans)} plan(s) ranked "
         f"in {result.elapsed:.2f} s"
         + (" (the time limit cut the search short)" if result.time_limited else ""),
         f"- Ranked by, in order: {', '.join(result.order)}",
-        f"- This report: plan rank {ranked.rank}, {status_words(ranked.status)}; it {verdict}",
-        f"- Worst share of an allowance: {float(evaluation.worst_share) * 100:.2f} %"
+        f"- This report: plan rank {ranked.rank}, {STATUS_WORDS[ranked.status]}; it {verdict}",
+        f"- Worst share of an allowance: {format_share(evaluation.worst_share)}"
         + (
             f" ({_md(evaluation.worst.requirement.peripheral)}, "
             f"{_md(evaluation.worst.requirement.label)})"
@@ -106,7 +103,7 @@ def _ranking(result: SearchResult, chosen: RankedPlan) -> str:
             [
                 rank,
                 *(format_hz(ranked.plan.sources[name]) for name in names),
-                f"{float(ranked.evaluation.worst_share) * 100:.2f} %",
+                format_share(ranked.evaluation.worst_share),
                 format_relative(worst.worst_case) if worst else "-",
                 _md(f"{worst.requirement.peripheral} ({worst.requirement.label})")
                 if worst
@@ -127,13 +124,12 @@ def _tree(scenario: Scenario, ranked: RankedPlan) -> str:
     """The chosen tree as an indented list, from each oscillator outwards."""
     graph = clock_graph(scenario)
     plan, evaluation = ranked.plan, ranked.evaluation
-    peripherals = {peripheral.name: peripheral for peripheral in scenario.peripherals}
     lines: list[str] = []
 
     def visit(name: str, depth: int) -> None:
         indent = "  " * depth
-        if name in peripherals:
-            peripheral = peripherals[name]
+        peripheral = scenario.node(name)
+        if isinstance(peripheral, Peripheral):
             lines.append(f"{indent}- **{_md(name)}** ({_md(peripheral.kind)})")
             for check in evaluation.checks:
                 if check.requirement.peripheral == name:
@@ -141,7 +137,7 @@ def _tree(scenario: Scenario, ranked: RankedPlan) -> str:
                         f"{indent}  - {_md(check.requirement.label)}: "
                         f"{format_rate(check.achieved, check.requirement.unit)} "
                         f"(`{exact_string(check.achieved)}`), "
-                        f"{_md(rate_setting_text(check, plan))}, {_share(check)} of "
+                        f"{_md(rate_setting_text(check, plan))}, {format_share(check.share)} of "
                         f"{_md(limit_text(check))}, {rate_verdict(check)}"
                     )
             return
@@ -211,7 +207,7 @@ def _peripherals(ranked: RankedPlan) -> str:
                 "-" if requirement.ceiling else format_relative(check.worst_case_rss),
                 _md(limit_text(check)),
                 format_relative(check.margin, signed=True),
-                _share(check),
+                format_share(check.share),
                 rate_verdict(check),
             ]
         )

@@ -2,7 +2,7 @@
 
 Every mistake raises :class:`~clockplan.errors.ScenarioError` naming the file, the
 key path and what was expected. Structural checks (unknown ``from``, loops) live in
-:mod:`clockplan.tree`, which :func:`load_scenario` runs before returning.
+:mod:`clockplan.topology`, which every :class:`Scenario` runs when it is made.
 """
 
 from __future__ import annotations
@@ -14,6 +14,7 @@ import stat
 import tomllib
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import cached_property
 from importlib import resources
 from pathlib import Path
 
@@ -52,6 +53,7 @@ from clockplan.sources import (
     rc_oscillator,
 )
 from clockplan.text_safety import quoted
+from clockplan.topology import check_structure
 
 __all__ = [
     "Pll",
@@ -131,6 +133,10 @@ class Mux:
     """Highest allowed output frequency, hertz."""
 
 
+Node = Source | Pll | Divider | Mux | Peripheral
+"""Anything of a scenario that has a name."""
+
+
 @dataclass(frozen=True)
 class Scenario:
     """One board: its oscillators, clock structure and peripherals."""
@@ -183,13 +189,24 @@ class Scenario:
             if not source.candidates:
                 raise ScenarioError(where, f"sources.{source.name}.choose", "offers no frequency")
         _check_unique_names(self)
-        from clockplan.tree import check_structure
-
         check_structure(self)
 
     def source(self, name: str) -> Source:
         """The source called ``name``."""
-        return next(source for source in self.sources if source.name == name)
+        node = self.node(name)
+        if not isinstance(node, Source):
+            raise KeyError(name)
+        return node
+
+    def node(self, name: str) -> Node:
+        """The source, PLL, divider, mux or peripheral called ``name`` (KeyError if none)."""
+        return self._nodes[name]
+
+    @cached_property
+    def _nodes(self) -> dict[str, Node]:
+        """Every node by name, built once (names are unique across sections)."""
+        groups = (self.sources, self.plls, self.dividers, self.muxes, self.peripherals)
+        return {item.name: item for group in groups for item in group}
 
     @property
     def clock_names(self) -> tuple[str, ...]:

@@ -14,19 +14,21 @@ from rich.text import Text
 from rich.tree import Tree
 
 from clockplan.evaluate import RateCheck
-from clockplan.graphs import (
+from clockplan.interfaces import Peripheral
+from clockplan.plan import Plan
+from clockplan.quantities import format_hz, format_relative
+from clockplan.result import RankedPlan
+from clockplan.scenario import Scenario
+from clockplan.text import (
     AT_RISK,
     FAIL,
+    format_rate,
+    format_share,
     limit_text,
     rate_setting_text,
     rate_verdict,
     setting_text,
 )
-from clockplan.plan import Plan
-from clockplan.quantities import format_hz, format_relative
-from clockplan.render import format_rate
-from clockplan.scenario import Scenario
-from clockplan.solve import RankedPlan
 from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
 
@@ -58,20 +60,20 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
     """The tree of ``ranked``: oscillators at the top, peripherals and their rates at the leaves."""
     graph = clock_graph(scenario)
     plan, evaluation = ranked.plan, ranked.evaluation
-    peripherals = {peripheral.name: peripheral for peripheral in scenario.peripherals}
     root = Tree(
         Text.assemble(
             (printable(scenario.title), "bold"),
             f"  plan {ranked.rank} ({ranked.status.value})  worst share ",
-            (f"{float(evaluation.worst_share) * 100:.2f} %", "bold"),
+            (format_share(evaluation.worst_share), "bold"),
         ),
         guide_style="dim",
     )
 
     def grow(branch: Tree, name: str) -> None:
-        if name in peripherals:
+        peripheral = scenario.node(name)
+        if isinstance(peripheral, Peripheral):
             checks = [c for c in evaluation.checks if c.requirement.peripheral == name]
-            leaf = branch.add(Text.assemble((name, "bold"), "  ", (peripherals[name].kind, "dim")))
+            leaf = branch.add(Text.assemble((name, "bold"), "  ", (peripheral.kind, "dim")))
             for check in checks:
                 leaf.add(_rate_line(check, plan))
             return
@@ -104,14 +106,14 @@ def _rate_line(check: RateCheck, plan: Plan) -> Text:
     if requirement.ceiling:
         figures = (
             f"\nlimit {limit_text(check)}: with the budget at most "
-            f"{float(check.share) * 100:.2f} % of it "
+            f"{format_share(check.share)} of it "
             f"({format_relative(check.worst_case, signed=True)})"
         )
     else:
         figures = (
             f"\nerror {format_relative(check.error, signed=True)}, worst "
             f"{format_relative(check.worst_case)} of {limit_text(check)} "
-            f"({float(check.share) * 100:.2f} % used), "
+            f"({format_share(check.share)} used), "
             f"margin {format_relative(check.margin, signed=True)}"
         )
     return Text.assemble(

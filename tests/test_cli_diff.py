@@ -7,7 +7,7 @@ from dataclasses import replace
 from fractions import Fraction
 
 from clockplan.cli import main
-from clockplan.commands.diff import Side, plan_changes
+from clockplan.compare import Side, plan_changes
 from clockplan.evaluate import evaluate_plan
 from clockplan.scenario import default_scenario_path
 from tests.test_graphs import BENCH_SETTINGS, bench_ranked

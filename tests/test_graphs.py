@@ -10,20 +10,12 @@ import networkx as nx
 import pytest
 
 from clockplan.evaluate import RateCheck, evaluate_plan
-from clockplan.graphs import (
-    AT_RISK,
-    FAIL,
-    PASS,
-    dot_text,
-    exact_decimal,
-    graphml_text,
-    plan_graph,
-    rate_verdict,
-)
+from clockplan.graphs import dot_text, graphml_text, plan_graph
 from clockplan.interfaces.base import Requirement
 from clockplan.plan import Plan
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan, Status, search
+from clockplan.text import AT_RISK, FAIL, PASS, exact_decimal, rate_verdict
 from tests.conftest import scenario_from
 
 BENCH = """

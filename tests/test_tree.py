@@ -2,7 +2,8 @@ import networkx as nx
 import pytest
 
 from clockplan.errors import ScenarioError
-from clockplan.tree import clock_graph, evaluation_order
+from clockplan.topology import evaluation_order
+from clockplan.tree import clock_graph
 from tests.conftest import scenario_from
 
 SOURCES = """

@@ -1,4 +1,5 @@
-"""One module per subcommand; each defines ``register(subparsers)``.
+"""One module per subcommand; each defines ``register(subparsers)`` (``_searching`` holds
+what the searching commands share).
 
 ``register`` adds the subparser and sets ``func`` to a callable taking the parsed
 arguments and returning the exit status. Modules are found by name, in alphabetical

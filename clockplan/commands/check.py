@@ -11,12 +11,13 @@ import json
 
 from rich.console import Console
 
-from clockplan.commands.plan import add_search_options, run_search
+from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.errors import InputError
 from clockplan.exits import Exit, search_exit
 from clockplan.export import explanation_to_data, plan_to_data
 from clockplan.quantities import format_hz
-from clockplan.render import explanation_text, format_share
+from clockplan.render import explanation_text
+from clockplan.text import format_share
 from clockplan.text_safety import printable
 
 
@@ -37,8 +38,7 @@ def run(args: argparse.Namespace) -> int:
     """Print the verdict and return the exit status (see the module docstring)."""
     if args.top < 1:  # check ranks one plan, but a bad --top is still a mistake to report
         raise InputError("--top", f"{args.top} is not a positive count of plans")
-    args.top = 1
-    result = run_search(args, show_progress=False, explain=True)
+    result = run_search(SearchOptions.of(args, top=1), show_progress=False, explain=True)
     verdict = search_exit(result)
     best = result.plans[0] if result.plans else None
     if args.json:

@@ -15,21 +15,20 @@ from pathlib import Path
 
 from rich.console import Console
 
-from clockplan.commands.plan import add_search_options, run_search
+from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.drawing import plan_svg
 from clockplan.errors import InputError
+from clockplan.exits import Exit
 from clockplan.export import plan_to_data, result_to_data
 from clockplan.files import check_target, write_atomic
 from clockplan.graphs import dot_text, graphml_text, plan_graph
 from clockplan.header import header_text
 from clockplan.render import status_line
 from clockplan.report import report_text
+from clockplan.result import RankedPlan, SearchResult, Status
 from clockplan.scenario import default_scenario_path
-from clockplan.solve import RankedPlan, SearchResult, Status
 from clockplan.text_safety import printable
 from clockplan.treeview import legend, plan_tree
-
-EXIT_OK, EXIT_NO_PLAN = 0, 1
 
 Writer = Callable[[SearchResult, RankedPlan], str]
 
@@ -105,8 +104,8 @@ def run(args: argparse.Namespace) -> int:
     if args.top < 1:
         raise InputError("--top", f"{args.top} is not a positive count of plans")
     targets = _targets(args)
-    args.top = max(args.top, args.rank)
-    result = run_search(args, show_progress=not args.json)
+    options = SearchOptions.of(args, top=max(args.top, args.rank))
+    result = run_search(options, show_progress=not args.json)
     console = Console()
     notes = Console(stderr=True) if args.json else console
     if not result.plans:
@@ -119,7 +118,7 @@ def run(args: argparse.Namespace) -> int:
             else "the time limit came before any plan"
         )
         notes.print(f"No plan to show; {why}. Nothing written.", style="bold red", markup=False)
-        return EXIT_NO_PLAN
+        return Exit.NO_PLAN
     if len(result.plans) < args.rank:
         raise InputError("--rank", f"{args.rank}: the search ranked only {len(result.plans)} plans")
     ranked = result.plans[args.rank - 1]
@@ -135,4 +134,4 @@ def run(args: argparse.Namespace) -> int:
         notes.print(
             f"wrote {printable(str(target))}", markup=False, highlight=False, soft_wrap=True
         )
-    return EXIT_OK if ranked.evaluation.feasible else EXIT_NO_PLAN
+    return Exit.OK if ranked.evaluation.feasible else Exit.NO_PLAN

@@ -24,7 +24,7 @@ from clockplan.result import Explanation, Relaxation
 from clockplan.scenario import Scenario
 from clockplan.settle import settle_settings
 from clockplan.solve.model import RELAXED_ERROR, ClockModel, Limit, build_model
-from clockplan.tree import feeding_source_names
+from clockplan.topology import feeding_source_names
 
 __all__ = ["explain_infeasibility", "beyond_sources"]
 

@@ -37,7 +37,7 @@ from clockplan.interfaces.base import Divisors, Option, Requirement, largest, sm
 from clockplan.plan import SettingValue, pll_keys
 from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Divider, Mux, Pll, Scenario
-from clockplan.tree import evaluation_order
+from clockplan.topology import evaluation_order
 
 __all__ = [
     "ClockModel",
@@ -293,11 +293,8 @@ class _Builder:
 
     def build(self) -> ClockModel:
         scenario = self.scenario
-        nodes: dict[str, Pll | Divider | Mux] = {
-            item.name: item for item in (*scenario.plls, *scenario.dividers, *scenario.muxes)
-        }
         for name in evaluation_order(scenario):
-            node = nodes.get(name)
+            node = scenario.node(name)
             if isinstance(node, Pll):
                 with self.located(f"plls.{name}"):
                     self.add_pll(node)

@@ -1,0 +1,165 @@
+"""The words and number formats every view shares: verdicts, shares, rates, settings.
+
+The terminal tables, the tree, the picture, the header, the report and the JSON all say
+the same thing because they take their words from here. No solver, no rich.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+from clockplan.evaluate import RateCheck
+from clockplan.plan import Plan, SettingValue, pll_keys
+from clockplan.quantities import exact_string, format_hz, format_relative
+from clockplan.result import RankedPlan
+from clockplan.scenario import Divider, Mux, Pll, Scenario
+
+__all__ = [
+    "AT_RISK_SHARE",
+    "PASS",
+    "AT_RISK",
+    "FAIL",
+    "rate_verdict",
+    "worst_verdict",
+    "format_share",
+    "format_rate",
+    "proof_text",
+    "exact_decimal",
+    "node_settings",
+    "setting_text",
+    "rate_settings",
+    "rate_setting_text",
+    "register_value",
+    "limit_text",
+]
+
+AT_RISK_SHARE = Fraction(4, 5)
+"""A rate whose worst case uses more than this share of its allowance is marked "at risk".
+
+Our own convention (no source): it passes, but with less than a fifth of the
+allowance left it deserves a second look before the board is built.
+"""
+PASS, AT_RISK, FAIL = "pass", "at risk", "fail"
+
+
+def rate_verdict(check: RateCheck) -> str:
+    """``"pass"``, ``"at risk"`` (share above 0.8, our own convention) or ``"fail"``.
+
+    A maximum rate (a ceiling) is only pass or fail: the search drives it close to its
+    limit on purpose, budget included.
+    """
+    if not check.passes:
+        return FAIL
+    if check.requirement.ceiling:
+        return PASS
+    return AT_RISK if check.share > AT_RISK_SHARE else PASS
+
+
+def worst_verdict(checks: list[RateCheck] | tuple[RateCheck, ...]) -> str:
+    """The worst verdict among ``checks`` (``"pass"`` when there are none)."""
+    verdicts = {rate_verdict(check) for check in checks}
+    return next((verdict for verdict in (FAIL, AT_RISK) if verdict in verdicts), PASS)
+
+
+def exact_decimal(value: Fraction | int) -> str:
+    """An exact value as a whole number, a terminating decimal, or ``"p/q"``."""
+    value = Fraction(value)
+    if value.denominator == 1:
+        return str(value.numerator)
+    denominator, twos, fives = value.denominator, 0, 0
+    while denominator % 2 == 0:
+        denominator, twos = denominator // 2, twos + 1
+    while denominator % 5 == 0:
+        denominator, fives = denominator // 5, fives + 1
+    if denominator != 1:
+        return exact_string(value)
+    places = max(twos, fives)
+    scaled = abs(value) * 10**places
+    whole, digits = divmod(int(scaled), 10**places)
+    sign = "-" if value < 0 else ""
+    return f"{sign}{whole}.{digits:0{places}d}"
+
+
+def node_settings(plan: Plan, name: str) -> dict[str, SettingValue]:
+    """The settings of one node, keyed by the part after ``name.`` (``"divide"``)."""
+    prefix = f"{name}."
+    return {
+        key[len(prefix) :]: value for key, value in plan.settings.items() if key.startswith(prefix)
+    }
+
+
+def setting_text(scenario: Scenario, plan: Plan, name: str) -> str:
+    """What a clock node is set to, in words: ``"÷2"``, ``"÷1 ×60 + 3/8"``, ``"input bus"``."""
+    node = scenario.node(name)
+    if isinstance(node, Pll):
+        reference_key, multiplier_key, fraction_key = pll_keys(name)
+        text = f"÷{plan.settings.get(reference_key)} ×{plan.settings.get(multiplier_key)}"
+        fraction = plan.settings.get(fraction_key, 0)
+        if node.fraction_bits and fraction:
+            text += f" + {fraction}/{2**node.fraction_bits}"
+        return text
+    if isinstance(node, Divider):
+        return f"÷{plan.settings.get(f'{name}.divide')}"
+    if isinstance(node, Mux):
+        chosen = plan.settings.get(f"{name}.input")
+        index = node.inputs.index(str(chosen)) if chosen in node.inputs else "?"
+        return f"input {chosen} ({index} of 0..{len(node.inputs) - 1})"
+    return ""
+
+
+def register_value(check: RateCheck) -> Fraction:
+    """The rate's divisor as the peripheral holds it: the count ÷ its scale and option factor."""
+    scale = check.requirement.divisor_scale * check.option.factor
+    return Fraction(check.divisor, scale)
+
+
+def rate_settings(check: RateCheck, plan: Plan) -> dict[str, SettingValue]:
+    """The plan's settings behind one rate, by full key: its divisor (or stages) and option."""
+    requirement = check.requirement
+    keys = [requirement.stage_setting(name) for name, _ in requirement.stages]
+    keys = keys or [requirement.setting]
+    if len(requirement.choices) > 1:
+        keys.append(requirement.option_setting)
+    return {key: plan.settings[key] for key in keys if key in plan.settings}
+
+
+def rate_setting_text(check: RateCheck, plan: Plan) -> str:
+    """The settings behind one rate in words: ``"divisor_115200 = 32.5625"``, stages, option."""
+    requirement = check.requirement
+    parts = []
+    for key, value in rate_settings(check, plan).items():
+        if key == requirement.option_setting:
+            continue
+        shown = exact_decimal(register_value(check)) if key == requirement.setting else value
+        parts.append(f"{key.split('.', 1)[-1]} = {shown}")
+    if check.option.label:
+        parts.append(check.option.label)
+    return ", ".join(parts)
+
+
+def limit_text(check: RateCheck) -> str:
+    """What the rate must meet: its allowance, or ``"≤ 25 MHz"`` for a maximum."""
+    requirement = check.requirement
+    if not requirement.ceiling:
+        return format_relative(check.allowance)
+    top = format_rate(requirement.target, requirement.unit)
+    if requirement.floor is None:
+        return f"≤ {top}"
+    return f"{format_rate(requirement.floor, requirement.unit)} .. {top}"
+
+
+def format_share(share: Fraction) -> str:
+    """A share of an allowance as a percentage, as every output prints it."""
+    return f"{float(share) * 100:.2f} %"
+
+
+def proof_text(ranked: RankedPlan) -> str:
+    """ "proved", or the first stage the time limit stopped."""
+    return "proved" if not ranked.unproved else f"not proved: {ranked.unproved[0]}"
+
+
+def format_rate(value: Fraction, unit: str) -> str:
+    """A rate in hertz with a readable prefix, or in baud as a plain number."""
+    if unit == "baud":
+        return f"{float(value):.7g} Bd"
+    return format_hz(value)
