@@ -20,7 +20,7 @@ from clockplan.errors import ClockplanError, InternalError
 from clockplan.exits import Exit
 from clockplan.text_safety import MAX_QUOTED, printable, shorten
 
-__all__ = ["main", "main_entry", "build_parser", "OneLineParser"]
+__all__ = ["main", "build_parser", "OneLineParser"]
 
 
 class OneLineParser(argparse.ArgumentParser):
@@ -110,10 +110,3 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # the reader went away (`clockplan plan --json | head`)
         sys.stdout = open(os.devnull, "w")  # so the flush at exit raises nothing more
         return Exit.OK
-
-
-def main_entry() -> None:
-    """Console-script entry point (see :mod:`clockplan.entry`, which guards the imports)."""
-    from clockplan.entry import main_entry as guarded
-
-    guarded()

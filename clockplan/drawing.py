@@ -10,6 +10,7 @@ Edges carry the divider settings; nodes carry names, frequencies and rate verdic
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 from xml.sax.saxutils import escape, quoteattr
 
 import networkx as nx
@@ -57,7 +58,7 @@ def _text_width(text: str) -> float:
     return len(text) * CHARACTER_WIDTH
 
 
-def _node_lines(name: str, data: dict) -> tuple[tuple[str, str, bool], ...]:  # type: ignore[type-arg]
+def _node_lines(name: str, data: dict[str, Any]) -> tuple[tuple[str, str, bool], ...]:
     if data["role"] == "peripheral":
         lines = [(f"{name}  ({data['kind']})", "#222222", True)]
         for index in range(1, data["rates"] + 1):
@@ -80,9 +81,9 @@ def _node_lines(name: str, data: dict) -> tuple[tuple[str, str, bool], ...]:  # 
     return tuple(lines)
 
 
-def _columns(graph: nx.DiGraph) -> dict[str, int]:
+def _columns(graph: nx.DiGraph[str]) -> dict[str, int]:
     """Column of each node: clocks by generation, peripherals all in the last column."""
-    clocks = [name for name, role in graph.nodes(data="role") if role != "peripheral"]
+    clocks = [name for name, data in graph.nodes(data=True) if data["role"] != "peripheral"]
     column: dict[str, int] = {}
     for index, generation in enumerate(nx.topological_generations(graph.subgraph(clocks))):
         column.update({name: index for name in generation})
@@ -91,14 +92,14 @@ def _columns(graph: nx.DiGraph) -> dict[str, int]:
     return column
 
 
-def _parent(graph: nx.DiGraph, name: str) -> str | None:
+def _parent(graph: nx.DiGraph[str], name: str) -> str | None:
     """The one input a node hangs under in the picture: a mux's chosen input, else the first."""
-    inputs = list(graph.predecessors(name))
+    inputs: list[str] = list(graph.predecessors(name))
     chosen = [p for p in inputs if graph.edges[p, name].get("selected")]
-    return (chosen or inputs or [None])[0]
+    return (chosen or inputs)[0] if inputs else None
 
 
-def _rows(graph: nx.DiGraph) -> dict[str, float]:
+def _rows(graph: nx.DiGraph[str]) -> dict[str, float]:
     """Row of each node: leaves in order, parents level with the middle of their children."""
     order = {name: index for index, name in enumerate(graph.nodes)}
     children: dict[str, list[str]] = {name: [] for name in graph.nodes}
@@ -127,7 +128,7 @@ def _rows(graph: nx.DiGraph) -> dict[str, float]:
     return rows
 
 
-def _layout(graph: nx.DiGraph) -> tuple[dict[str, _Box], float, float, float]:
+def _layout(graph: nx.DiGraph[str]) -> tuple[dict[str, _Box], float, float, float]:
     columns, rows = _columns(graph), _rows(graph)
     lines = {name: _node_lines(name, data) for name, data in graph.nodes(data=True)}
     widths = {
@@ -143,7 +144,7 @@ def _layout(graph: nx.DiGraph) -> tuple[dict[str, _Box], float, float, float]:
         max(widths[name] for name in graph.nodes if columns[name] == column)
         for column in range(count)
     ]
-    labels = [_text_width(label) for _, _, label in graph.edges(data="label")]
+    labels = [_text_width(data["label"]) for _, _, data in graph.edges(data=True)]
     gap = max([90.0, *(width + 40 for width in labels)])
     left = [MARGIN + sum(column_width[:column]) + gap * column for column in range(count)]
     boxes = {
@@ -205,7 +206,7 @@ def _edge_svg(start: _Box, end: _Box, label: str, dashed: bool, gap: float) -> l
     return parts
 
 
-def plan_svg(graph: nx.DiGraph) -> str:
+def plan_svg(graph: nx.DiGraph[str]) -> str:
     """The plan graph (from :func:`clockplan.graphs.plan_graph`) as a standalone SVG document."""
     boxes, width, height, gap = _layout(graph)
     share = graph.graph["worst_share"] * 100
@@ -213,7 +214,7 @@ def plan_svg(graph: nx.DiGraph) -> str:
         f"plan {graph.graph['rank']} ({graph.graph['status']}), worst share {share:.2f} % "
         "of an allowance"
     )
-    if any(selected is False for _, _, selected in graph.edges(data="selected")):
+    if any(data.get("selected") is False for _, _, data in graph.edges(data=True)):
         subtitle += "; dashed: a mux input not chosen"
     title = f"{graph.graph['title']}: clock tree"
     parts = [

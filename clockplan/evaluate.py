@@ -206,13 +206,13 @@ def _setting(
     value = plan.settings.get(key, default)
     if value is None and len(allowed) == 1:
         return allowed[0]
-    if isinstance(value, bool) or not isinstance(value, int) or value not in allowed:
-        # Recorded, then carried on: a positive whole value is kept (a what-if plan shows
-        # its rates), anything else becomes the smallest allowed, never a division by zero.
-        violations.append(f"{key}: {value!r} is not an allowed value")
-        usable = isinstance(value, int) and not isinstance(value, bool) and value > 0
-        return value if usable else smallest(allowed)
-    return value
+    count = value if isinstance(value, int) and not isinstance(value, bool) else None
+    if count is not None and count in allowed:
+        return count
+    # Recorded, then carried on: a positive whole value is kept (a what-if plan shows its
+    # rates), anything else becomes the smallest allowed, never a division by zero.
+    violations.append(f"{key}: {value!r} is not an allowed value")
+    return count if count is not None and count > 0 else smallest(allowed)
 
 
 def _within(

@@ -132,8 +132,8 @@ def check_to_data(check: RateCheck) -> dict[str, Any]:
     }
 
 
-def _ppm(value: object) -> float:
-    return round(float(value) * 1e6, 6)  # type: ignore[arg-type]
+def _ppm(value: Fraction) -> float:
+    return round(float(value) * 1e6, 6)
 
 
 def changes_to_data(a: Side, b: Side, changes: tuple[Change, ...]) -> dict[str, Any]:

@@ -40,7 +40,7 @@ __all__ = [
 ]
 
 
-def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph:
+def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
     """The clock tree of ``ranked`` with frequencies, settings and rate figures as attributes.
 
     Graph: ``title``, ``file``, ``rank``, ``status``, ``worst_share``,
@@ -141,7 +141,7 @@ def _dot_attributes(data: dict[str, Any]) -> str:
     return ", ".join(f"{_dot_id(key)}={_dot_id(value)}" for key, value in data.items())
 
 
-def dot_text(graph: nx.DiGraph) -> str:
+def dot_text(graph: nx.DiGraph[str]) -> str:
     """The graph in the DOT language, every ID quoted, left to right.
 
     Source: the DOT language grammar (graphviz.org/doc/info/lang.html): any
@@ -160,6 +160,6 @@ def dot_text(graph: nx.DiGraph) -> str:
     return "\n".join(lines) + "\n"
 
 
-def graphml_text(graph: nx.DiGraph) -> str:
+def graphml_text(graph: nx.DiGraph[str]) -> str:
     """The graph as GraphML (networkx's writer), readable by ``nx.read_graphml``."""
     return "\n".join(nx.generate_graphml(graph, prettyprint=True)) + "\n"

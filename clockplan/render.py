@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
+from rich.console import JustifyMethod
 from rich.table import Table
 from rich.text import Text
 
@@ -116,7 +117,7 @@ def budget_table(result: SearchResult, ranked: RankedPlan) -> Table:
 def rates_table(ranked: RankedPlan) -> Table:
     """Every required rate of one plan: achieved, error, budget, allowance, margin."""
     table = Table(title=f"Plan {ranked.rank}: every required rate", title_justify="left")
-    for name, justify in (
+    columns: tuple[tuple[str, JustifyMethod], ...] = (
         ("peripheral", "left"),
         ("rate", "left"),
         ("achieved", "right"),
@@ -125,8 +126,9 @@ def rates_table(ranked: RankedPlan) -> Table:
         ("allowance", "right"),
         ("share", "right"),
         ("", "left"),
-    ):
-        table.add_column(name, justify=justify)  # type: ignore[arg-type]
+    )
+    for name, justify in columns:
+        table.add_column(name, justify=justify)
     for check in ranked.evaluation.checks:
         table.add_row(*_rate_cells(check))
     return table

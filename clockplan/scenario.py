@@ -158,24 +158,26 @@ class Scenario:
         """Check a scenario built by hand as the loader checks a file, so that the search
         and the evaluator only ever meet a well-formed board (or raise a ScenarioError)."""
         where = self.file if isinstance(self.file, str) else "<scenario>"
-        for key, value, kind in (
+        fields: tuple[tuple[str, object, type], ...] = (
             ("title", self.title, str),
             ("file", self.file, str),
             ("conditions", self.conditions, Conditions),
             ("rank_by", self.rank_by, tuple),
-        ):
+        )
+        for key, value, kind in fields:
             if not isinstance(value, kind):
                 raise ScenarioError(where, key, f"expected {kind.__name__}, got {_type(value)}")
         if sorted(map(str, self.rank_by)) != sorted(RANKING_GOALS):
             known = ", ".join(RANKING_GOALS)
             raise ScenarioError(where, "rank_by", f"expected each of {known} once, in any order")
-        for section, items, kind in (
+        sections: tuple[tuple[str, tuple[object, ...], type], ...] = (
             ("sources", self.sources, Source),
             ("plls", self.plls, Pll),
             ("dividers", self.dividers, Divider),
             ("muxes", self.muxes, Mux),
             ("peripherals", self.peripherals, Peripheral),
-        ):
+        )
+        for section, items, kind in sections:
             if not isinstance(items, tuple):
                 raise ScenarioError(where, section, f"expected a tuple, got {_type(items)}")
             for item in items:
@@ -432,8 +434,16 @@ def _read_source(fields: Fields, name: str, conditions: Conditions, budget: _Bud
     if kind_name in ("crystal", "tuning-fork") and fields.has("circuit"):
         pulling = _read_circuit(fields.sub("circuit"))
     cost = fields.take("cost", _cost, None)
-    terms = (ratio_up(term) for term in (tolerance, stability, aging, pulling))
-    return Source(name, kind_name, candidates, *terms, cost)
+    return Source(
+        name,
+        kind_name,
+        candidates,
+        ratio_up(tolerance),
+        ratio_up(stability),
+        ratio_up(aging),
+        ratio_up(pulling),
+        cost,
+    )
 
 
 def _per_square_degree(value: object) -> Fraction:
@@ -664,7 +674,7 @@ def _type(value: object) -> str:
 
 def _check_unique_names(scenario: Scenario) -> None:
     seen: dict[str, str] = {}
-    sections = {
+    sections: dict[str, tuple[Node, ...]] = {
         "sources": scenario.sources,
         "plls": scenario.plls,
         "dividers": scenario.dividers,

@@ -19,9 +19,9 @@ if TYPE_CHECKING:
 __all__ = ["clock_graph"]
 
 
-def clock_graph(scenario: Scenario) -> nx.DiGraph:
+def clock_graph(scenario: Scenario) -> nx.DiGraph[str]:
     """Every node of the scenario with a ``role`` attribute, and an edge per ``from``."""
-    graph = nx.DiGraph(title=printable(scenario.title))
+    graph: nx.DiGraph[str] = nx.DiGraph(title=printable(scenario.title))
     for source in scenario.sources:
         graph.add_node(source.name, role="source")
     for pll in scenario.plls:

@@ -6,6 +6,7 @@ import argparse
 import sys
 import time
 from dataclasses import dataclass, replace
+from functools import partial
 
 from rich.console import Console
 from rich.progress import Progress
@@ -84,9 +85,9 @@ def run_search(args: SearchOptions, *, show_progress: bool, explain: bool = Fals
         raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
     started = args.started
     scenario = load_scenario(default_scenario_path() if args.file is None else args.file)
-    options = {"top": args.top, "time_limit": args.time_limit, "workers": args.workers}
+    run = partial(search, scenario, top=args.top, time_limit=args.time_limit, workers=args.workers)
     if not show_progress or not sys.stderr.isatty():
-        result = search(scenario, started=started, **options)
+        result = run(started=started)
     else:
         with Progress(console=Console(stderr=True), transient=True) as progress:
             task = progress.add_task("searching", total=args.top, visible=False)
@@ -95,7 +96,7 @@ def run_search(args: SearchOptions, *, show_progress: bool, explain: bool = Fals
                 visible = time.monotonic() - started > 1.0
                 progress.update(task, completed=done, total=total, visible=visible)
 
-            result = search(scenario, started=started, progress=report, **options)
+            result = run(started=started, progress=report)
     if explain and result.status is Status.INFEASIBLE and not result.interrupted:
         remaining = started + args.time_limit - time.monotonic()
         explanation = explain_infeasibility(scenario, time_limit=remaining)

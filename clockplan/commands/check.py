@@ -21,7 +21,7 @@ from clockplan.text import format_share
 from clockplan.text_safety import printable
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``check`` subcommand."""
     parser = subparsers.add_parser(
         "check",

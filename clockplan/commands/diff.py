@@ -25,7 +25,7 @@ from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
 from clockplan.text_safety import printable
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``diff`` subcommand."""
     parser = subparsers.add_parser(
         "diff",

@@ -19,7 +19,7 @@ from clockplan.render import (
 )
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``plan`` subcommand."""
     parser = subparsers.add_parser(
         "plan",

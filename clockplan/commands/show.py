@@ -42,7 +42,7 @@ EXPORTS: dict[str, tuple[str, Writer]] = {
 """Each export's option name (``--dot``), help text and text maker."""
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``show`` subcommand."""
     parser = subparsers.add_parser(
         "show",

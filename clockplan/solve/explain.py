@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import replace
+from typing import cast
 
 from ortools.sat.python import cp_model
 
@@ -99,7 +100,7 @@ def _run(model: cp_model.CpModel, deadline: float) -> tuple[int, cp_model.CpSolv
     solver.parameters.max_time_in_seconds = max(0.01, deadline - time.monotonic())
     solver.parameters.num_workers = 1  # core extraction needs a single worker
     solver.parameters.random_seed = 1
-    return solver.solve(model), solver
+    return cast(int, solver.solve(model)), solver  # annotated as the enum class
 
 
 def _relax(

@@ -49,6 +49,8 @@ __all__ = [
     "ERROR_DIGITS",
     "LIMIT",
     "Term",
+    "Expression",
+    "enforced",
 ]
 
 SHARE_STEPS = 10_000
@@ -62,6 +64,8 @@ may add up past 2**62, and a constraint here has at most three large terms."""
 RELAXED_ERROR = Fraction(1, 2)
 """In a relaxable model every rate still stays within 50 % of its target (a modelling bound)."""
 
+Expression = cp_model.LinearExpr | int
+"""A linear expression of the model, or a constant (numpy integers are never used)."""
 Literal = cp_model.IntVar | bool
 """An enforcement literal, or True where a condition always holds."""
 
@@ -70,7 +74,7 @@ Literal = cp_model.IntVar | bool
 class Term:
     """A non-negative integer expression of the model with its exact bounds."""
 
-    expr: cp_model.LinearExprT
+    expr: Expression
     low: int
     high: int
 
@@ -219,7 +223,7 @@ class ClockModel:
 
     def exclude_choice(self, choice: Mapping[str, Fraction]) -> None:
         """Forbid every plan that uses exactly these oscillators at these frequencies."""
-        differs: list[cp_model.IntVar] = []
+        differs: list[cp_model.LiteralT] = []
         for source in self.scenario.sources:
             used = self.used[source.name]
             if source.name not in choice:
@@ -237,8 +241,19 @@ class ClockModel:
 
     def _as_literal(self, literal: Literal) -> cp_model.IntVar:
         if isinstance(literal, bool):
-            return self.model.new_constant(int(literal))  # type: ignore[return-value]
+            return self.model.new_constant(int(literal))
         return literal
+
+
+def enforced(*conditions: Literal) -> list[cp_model.IntVar]:
+    """The literals a constraint is enforced by: those that always hold (True) left out."""
+    found: list[cp_model.IntVar] = []
+    for condition in conditions:
+        if condition is False:
+            raise InternalError("a constraint was enforced by a condition that never holds")
+        if not isinstance(condition, bool):
+            found.append(condition)
+    return found
 
 
 def _holds(solver: cp_model.CpSolver, literal: Literal) -> bool:
@@ -317,7 +332,11 @@ class _Builder:
         # decide the tree first: once it is fixed, every rate is left two divisors to try
         tree = [var for var, low, high in self.handles.order if low < high]
         if tree:
-            self.model.add_decision_strategy(tree, cp_model.CHOOSE_FIRST, cp_model.SELECT_MIN_VALUE)
+            self.model.add_decision_strategy(
+                tree,
+                cp_model.CHOOSE_FIRST,  # type: ignore[arg-type]  # OR-Tools annotates the enum
+                cp_model.SELECT_MIN_VALUE,  # type: ignore[arg-type]  # class, not its values
+            )
         return self.handles
 
     @contextmanager
@@ -330,13 +349,15 @@ class _Builder:
                 raise
             raise ModelTooLargeError(f"{self.scenario.file}: {key}: {error}") from None
 
-    def guard(self, key: str, text: str, **extra: object) -> list[cp_model.IntVar]:
+    def guard(
+        self, key: str, text: str, *, requirement: Requirement | None = None
+    ) -> list[cp_model.IntVar]:
         """Enforcement literals for one limit: none normally, its guard when relaxable."""
         if not self.relaxable:
             return []
         if key not in self.handles.limits:
             literal = self.model.new_bool_var(f"holds[{key}]")
-            self.handles.limits[key] = Limit(key, text, literal, **extra)  # type: ignore[arg-type]
+            self.handles.limits[key] = Limit(key, text, literal, requirement)
         return [self.handles.limits[key].literal]
 
     # -- variables -----------------------------------------------------------------------------
@@ -654,8 +675,8 @@ class _Builder:
             self.model.add(index != position).only_enforce_if(~chosen)
             self.model.add_linear_expression_in_domain(var, domain).only_enforce_if(chosen)
             literals.append((option, chosen))
-        values = [(option.divisors, chosen) for option, chosen in literals]
-        return _Divisor(one, Term(var, low, high), values, literals, (var, index))
+        ranges = [(option.divisors, chosen) for option, chosen in literals]
+        return _Divisor(one, Term(var, low, high), ranges, literals, (var, index))
 
     def counts(
         self, requirement: Requirement, node: str, divisor: _Divisor, low: int, high: int
@@ -678,7 +699,7 @@ class _Builder:
         self,
         requirement: Requirement,
         divisor: _Divisor,
-        deviation: cp_model.LinearExprT,
+        deviation: Expression,
         scale: int,
         base: Term,
     ) -> None:
@@ -751,7 +772,7 @@ class _Builder:
         sizes = (top * amount.high, scale * count.high)
         fasts = {root: _fit(1 + budget, *sizes, up=True) for root, budget in budgets.items()}
         for root, active in handles.roots[node].items():
-            enforce = [] if active is True else [active]
+            enforce = enforced(active)
             fast = fasts[root]
             self.model.add(
                 fast.numerator * top * amount.expr <= fast.denominator * scale * count.expr
@@ -797,7 +818,7 @@ class _Builder:
             self.model.add(divisor.last.expr >= values.start + step).only_enforce_if(above_first)
             self.model.add(divisor.last.expr < values.start + step).only_enforce_if(~above_first)
             for root, active in self.handles.roots[node].items():
-                enforce = [lit for lit in (active, chosen) if lit is not True]
+                enforce = enforced(active, chosen)
                 fast = fasts[root]
                 # fast·top·amount > scale·(count − step·base): a step less breaks the maximum
                 self.model.add(
@@ -855,7 +876,7 @@ class _Builder:
         step = math.lcm(*(cost.denominator for cost in costs.values()))
         whole = {name: int(cost * step) for name, cost in costs.items()}
         _check(sum(whole.values()), "cost")
-        total: cp_model.LinearExprT = 0
+        total: Expression = 0
         for name, amount in whole.items():
             used = self.handles.used[name]
             if used is True:
@@ -874,6 +895,11 @@ class _Builder:
         for group in (scenario.sources, scenario.plls, scenario.dividers, scenario.muxes):
             for item in group:
                 self.handles.order.extend(self.orders.get(item.name, []))
+
+
+_Serving = tuple[str, Fraction, Option, list[cp_model.IntVar], Fraction]
+"""A source that can serve a rate with one option: root, budget, option, enforcing
+literals, and the room the budget leaves in the allowance."""
 
 
 class _Rate:
@@ -905,8 +931,8 @@ class _Rate:
         for root, active in handles.roots[self.node].items():
             budget = self.builder.scenario.source(root).budget
             for option, chosen in self.literals:
-                enforce = [lit for lit in (active, chosen) if lit is not True]
-                yield root, budget, option, enforce  # type: ignore[misc]
+                enforce = enforced(active, chosen)
+                yield root, budget, option, enforce
 
     def build(self) -> None:
         builder, requirement = self.builder, self.requirement
@@ -918,7 +944,7 @@ class _Rate:
             f"{label} within {format_relative(loosest)} worst case",
             requirement=requirement,
         )
-        serving = []
+        serving: list[_Serving] = []
         for root, budget, option, enforce in self.combinations():
             room = option.allowance - budget
             if room < 0 or budget >= 1:
@@ -999,7 +1025,7 @@ class _Rate:
             )
         )
 
-    def restrict_options(self, serving: list[tuple], held: list[cp_model.IntVar]) -> None:
+    def restrict_options(self, serving: list[_Serving], held: list[cp_model.IntVar]) -> None:
         """With the options as a table: from each source, only the options it can serve."""
         handles = self.builder.handles
         options = self.requirement.choices
@@ -1009,10 +1035,11 @@ class _Rate:
                 for index, option in enumerate(options)
                 if any(r == root and o is option and room >= 0 for r, _, o, _, room in serving)
             ]
-            enforce = ([] if active is True else [active]) + held
+            enforce = enforced(active) + held
             if not allowed:
                 self.model.add_bool_or([lit.Not() for lit in enforce])
             elif len(allowed) < len(options):
+                assert self.divisor.index is not None
                 self.model.add_linear_expression_in_domain(
                     self.divisor.index, cp_model.Domain.from_values(allowed)
                 ).only_enforce_if(enforce)
@@ -1040,7 +1067,7 @@ class _Rate:
         _check(_upper(held_share), self.key)
         self.model.add_multiplication_equality(held_share, [left, share])
         for root, active in handles.roots[self.node].items():
-            enforce = [] if active is True else [active]
+            enforce = enforced(active)
             raised = math.ceil(ERROR_STEPS * self.builder.scenario.source(root).budget)
             self.model.add(worst + raised <= allowance_steps).only_enforce_if(enforce + held)
             total = self.int_var(raised, _upper(worst) + raised, f"worst_total[{self.key},{root}]")
@@ -1093,10 +1120,8 @@ class _Rate:
         magnitude_high = _upper(magnitude)
         shift = max(0, (ERROR_STEPS * magnitude_high).bit_length() - 61)
         if shift == 0:
-            rounded: cp_model.LinearExprT = magnitude
-            quotient: cp_model.LinearExprT = self.builder.plain(
-                denominator, f"error_scale[{self.key}]"
-            )
+            rounded: Expression = magnitude
+            quotient: Expression = self.builder.plain(denominator, f"error_scale[{self.key}]")
         else:
             if denominator.low >> shift < 1:
                 raise ModelTooLargeError(
@@ -1129,7 +1154,7 @@ class _Rate:
         high = error_high + math.ceil(error_high * max(raised.values()) / ERROR_STEPS) + 1
         worst = self.int_var(0, high, f"worst_steps[{self.key}]")
         for root, active in handles.roots[self.node].items():
-            enforce = [] if active is True else [active]
+            enforce = enforced(active)
             for factor, sign in ((raised[root], positive), (lowered[root], positive.Not())):
                 if factor == 0:
                     self.model.add(worst >= error).only_enforce_if(enforce)
@@ -1148,9 +1173,7 @@ class _Rate:
                     self.model.add(worst >= error - part).only_enforce_if(enforce + [sign])
         return worst
 
-    def share_high(
-        self, worst_high: int, serving: list[tuple[str, Fraction, Option, list, Fraction]]
-    ) -> int:
+    def share_high(self, worst_high: int, serving: list[_Serving]) -> int:
         """Largest share the model must hold for this rate, in steps."""
         return (
             max(

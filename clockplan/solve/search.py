@@ -34,6 +34,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
 from threading import Event, Thread
+from typing import cast
 
 from ortools.sat import sat_parameters_pb2
 from ortools.sat.python import cp_model
@@ -44,7 +45,13 @@ from clockplan.plan import Plan
 from clockplan.result import RankedPlan, SearchResult, Stage, Status
 from clockplan.scenario import Scenario
 from clockplan.settle import settle_settings
-from clockplan.solve.model import ERROR_DIGITS, ClockModel, RateHandles, build_model
+from clockplan.solve.model import (
+    ERROR_DIGITS,
+    ClockModel,
+    Expression,
+    RateHandles,
+    build_model,
+)
 
 __all__ = [
     "search",
@@ -124,6 +131,7 @@ def search(
         ranked_status = Status.OPTIMAL if proved else Status.FEASIBLE
         if rank == 1:
             status = ranked_status
+        assert found.choice is not None  # a plan always comes with its choice
         plans.append(
             RankedPlan(rank, found.plan, evaluation, ranked_status, found.stages, found.choice)
         )
@@ -332,7 +340,7 @@ class _Ranker:
         classes = [(root, fast) for root in roots for fast in (True, False)]
         start = self.solver
         least_class = _class_of(rate, roots, start)
-        if len(roots) == 1 and start.value(rate.deviation) == 0:
+        if len(roots) == 1 and _deviation(rate, start) == 0:
             self.hold_error(rate, least_class, Fraction(0), self.switch())
             return "done"
         outcome, least = self.least_error(rate, None)
@@ -410,7 +418,7 @@ class _Ranker:
         *,
         strict: bool = True,
         objective: bool = False,
-    ) -> str | cp_model.LinearExprT:
+    ) -> str | Expression:
         """While ``switch`` holds: the rate in the class ``within`` (when given) with
         |e| ≤ error = p/q, as q·|deviation| ≤ p·scaled count. With ``objective``, return
         q·|deviation| − p·scaled count to minimise instead of holding it. Without ``strict``
@@ -451,9 +459,7 @@ class _Ranker:
         self.switches.append(literal)
         return literal
 
-    def run(
-        self, objective: cp_model.LinearExprT | None, *, minimize: bool, may_fail: bool = False
-    ) -> str:
+    def run(self, objective: Expression | None, *, minimize: bool, may_fail: bool = False) -> str:
         """One CP-SAT solve: "done" (proved), "cut" (a plan, not proved) or "none" (no plan:
         proved, or the time limit came before any)."""
         model = self.model
@@ -503,7 +509,13 @@ def _class_of(
 ) -> tuple[str, bool]:
     """The solution's oscillator for the rate, and whether the rate runs fast (e ≥ 0)."""
     root = next(name for name, active in roots.items() if _holds(solver, active))
-    return root, solver.value(rate.deviation) >= 0
+    return root, _deviation(rate, solver) >= 0
+
+
+def _deviation(rate: RateHandles, solver: cp_model.CpSolver) -> int:
+    """The rate's deviation in the solution (its sign is the sign of e)."""
+    assert rate.deviation is not None
+    return int(solver.value(rate.deviation))
 
 
 def _worst_case(
@@ -559,7 +571,7 @@ def _solve_once(
 
     def solve() -> None:
         try:
-            outcome.append(solver.solve(model))
+            outcome.append(cast(int, solver.solve(model)))  # annotated as the enum class
         finally:
             done.set()
 
