@@ -10,11 +10,11 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan.evaluate import RateCheck
-from clockplan.plan import SettingValue
+from clockplan.plan import SettingValue, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
 from clockplan.scenario import Scenario
-from clockplan.text import format_rate, format_share, node_settings
+from clockplan.text import format_rate, format_share
 
 __all__ = ["Side", "Change", "Value", "plan_changes"]
 

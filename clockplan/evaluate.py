@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan.interfaces.base import Option, Requirement, smallest
-from clockplan.plan import Plan, pll_keys
+from clockplan.plan import Plan, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz
 from clockplan.scenario import Divider, Mux, Pll, Scenario
 from clockplan.sources import Source
@@ -146,15 +146,15 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
             roots[name] = roots[node.input]
             _within(f"{name} VCO", clocks[name], node.vco, violations)
         elif isinstance(node, Divider):
-            value = _setting(plan, f"{name}.divide", node.divide, violations)
+            value = _setting(plan, divider_key(name), node.divide, violations)
             clocks[name] = clocks[node.input] / value
             roots[name] = roots[node.input]
             _within(name, clocks[name], (node.minimum, node.maximum), violations)
         elif isinstance(node, Mux):
-            chosen = plan.settings.get(f"{name}.input")
+            chosen = plan.mux_input(name)
             if chosen not in node.inputs:
                 violations.append(
-                    f"{name}.input: {chosen!r} is not one of {', '.join(node.inputs)}"
+                    f"{mux_key(name)}: {chosen!r} is not one of {', '.join(node.inputs)}"
                 )
                 chosen = node.inputs[0]
             clocks[name], roots[name] = clocks[str(chosen)], roots[str(chosen)]

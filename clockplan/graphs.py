@@ -16,7 +16,7 @@ import networkx as nx
 
 from clockplan.evaluate import RateCheck
 from clockplan.interfaces import Peripheral
-from clockplan.plan import Plan
+from clockplan.plan import Plan, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
 from clockplan.scenario import Scenario
@@ -24,7 +24,6 @@ from clockplan.text import (
     format_rate,
     format_share,
     limit_text,
-    node_settings,
     rate_setting_text,
     rate_verdict,
     setting_text,
@@ -81,7 +80,7 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
     for parent, child, data in graph.edges(data=True):
         data["label"] = graph.nodes[child].get("setting", "") if "hz" in graph.nodes[child] else ""
         if "input" in data:
-            data["selected"] = plan.settings.get(f"{child}.input") == parent
+            data["selected"] = plan.mux_input(child) == parent
             data["label"] = f"input {data['input']}" + (" (chosen)" if data["selected"] else "")
     return graph
 

@@ -15,6 +15,7 @@ from fractions import Fraction
 from clockplan import __version__
 from clockplan.errors import ClockplanError
 from clockplan.evaluate import RateCheck
+from clockplan.plan import node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
 from clockplan.scenario import Mux, Scenario
@@ -89,10 +90,8 @@ def header_text(scenario: Scenario, ranked: RankedPlan, *, prefix: str = DEFAULT
         clock = scenario.node(name)
         hz = evaluation.clocks[name]
         lines.append(f"/* {_comment(name)}: {_comment(_frequency_comment(hz))} */")
-        for key, value in plan.settings.items():
-            node, setting = key.split(".", 1)
-            if node != name:
-                continue
+        for setting, value in node_settings(plan, name).items():
+            key = f"{name}.{setting}"
             if isinstance(clock, Mux):
                 index = clock.inputs.index(str(value))
                 inputs = ", ".join(f"{i} {n}" for i, n in enumerate(clock.inputs))

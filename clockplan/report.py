@@ -147,7 +147,7 @@ def _tree(scenario: Scenario, ranked: RankedPlan) -> str:
             f"{indent}- **{_md(name)}**: {format_hz(hz)} (`{exact_string(hz)}` Hz), {_md(what)}"
         )
         for child in graph.successors(name):
-            chosen = plan.settings.get(f"{child}.input", name) == name
+            chosen = plan.mux_input(child) in (None, name)
             if chosen:
                 visit(child, depth + 1)
             else:

@@ -9,7 +9,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan.evaluate import RateCheck
-from clockplan.plan import Plan, SettingValue, pll_keys
+from clockplan.plan import Plan, SettingValue, divider_key, pll_keys
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
 from clockplan.scenario import Divider, Mux, Pll, Scenario
@@ -25,7 +25,6 @@ __all__ = [
     "format_rate",
     "proof_text",
     "exact_decimal",
-    "node_settings",
     "setting_text",
     "rate_settings",
     "rate_setting_text",
@@ -80,14 +79,6 @@ def exact_decimal(value: Fraction | int) -> str:
     return f"{sign}{whole}.{digits:0{places}d}"
 
 
-def node_settings(plan: Plan, name: str) -> dict[str, SettingValue]:
-    """The settings of one node, keyed by the part after ``name.`` (``"divide"``)."""
-    prefix = f"{name}."
-    return {
-        key[len(prefix) :]: value for key, value in plan.settings.items() if key.startswith(prefix)
-    }
-
-
 def setting_text(scenario: Scenario, plan: Plan, name: str) -> str:
     """What a clock node is set to, in words: ``"÷2"``, ``"÷1 ×60 + 3/8"``, ``"input bus"``."""
     node = scenario.node(name)
@@ -99,9 +90,9 @@ def setting_text(scenario: Scenario, plan: Plan, name: str) -> str:
             text += f" + {fraction}/{2**node.fraction_bits}"
         return text
     if isinstance(node, Divider):
-        return f"÷{plan.settings.get(f'{name}.divide')}"
+        return f"÷{plan.settings.get(divider_key(name))}"
     if isinstance(node, Mux):
-        chosen = plan.settings.get(f"{name}.input")
+        chosen = plan.mux_input(name)
         index = node.inputs.index(str(chosen)) if chosen in node.inputs else "?"
         return f"input {chosen} ({index} of 0..{len(node.inputs) - 1})"
     return ""

@@ -91,7 +91,7 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
             )
         )
         for child in graph.successors(name):
-            if plan.settings.get(f"{child}.input", name) == name:
+            if plan.mux_input(child) in (None, name):
                 grow(node, child)
             else:
                 node.add(Text(f"{child} (mux input, not chosen)", style="dim"))

@@ -5,6 +5,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+from clockplan.plan import option_key, stage_key
+
 __all__ = ["Requirement", "Peripheral", "Divisors", "Option", "times", "smallest", "largest"]
 
 Divisors = range | tuple[int, ...]
@@ -95,7 +97,7 @@ class Requirement:
 
     def stage_setting(self, name: str) -> str:
         """Key of one stage's value in a plan's settings."""
-        return f"{self.setting}.{name}"
+        return stage_key(self.setting, name)
 
     @property
     def choices(self) -> tuple[Option, ...]:
@@ -105,7 +107,7 @@ class Requirement:
     @property
     def option_setting(self) -> str:
         """Key of the chosen option's index in a plan's settings (when there are several)."""
-        return f"{self.setting}_option"
+        return option_key(self.setting)
 
     def achieved(self, kernel: Fraction, divisor: int) -> Fraction:
         """The rate produced from ``kernel`` hertz with ``divisor``."""

@@ -34,7 +34,7 @@ from ortools.sat.python import cp_model
 
 from clockplan.errors import InternalError, ModelTooLargeError
 from clockplan.interfaces.base import Divisors, Option, Requirement, largest, smallest, times
-from clockplan.plan import SettingValue, pll_keys
+from clockplan.plan import SettingValue, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Divider, Mux, Pll, Scenario
 from clockplan.topology import evaluation_order
@@ -164,6 +164,7 @@ class ClockModel:
     tree_settings: dict[str, cp_model.IntVar] = field(default_factory=dict)
     """PLL, divider and mux settings by plan key (mux settings hold the input's index)."""
     mux_inputs: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    """Each mux setting's key with the inputs its index picks from."""
     rates: list[RateHandles] = field(default_factory=list)
     used: dict[str, Literal] = field(default_factory=dict)
     """For each source, whether some peripheral or fastest clock is fed from it."""
@@ -201,8 +202,7 @@ class ClockModel:
         settings: dict[str, SettingValue] = {}
         for key, var in self.tree_settings.items():
             value = int(solver.value(var))
-            node = key.rsplit(".", 1)[0]
-            settings[key] = self.mux_inputs[node][value] if node in self.mux_inputs else value
+            settings[key] = self.mux_inputs[key][value] if key in self.mux_inputs else value
         clocks = {
             node: self.units[node]
             * Fraction(
@@ -531,7 +531,7 @@ class _Builder:
 
     def add_divider(self, divider: Divider) -> None:
         handles = self.handles
-        key = f"{divider.name}.divide"
+        key = divider_key(divider.name)
         value = self.choice(key, divider.divide)
         handles.tree_settings[key] = value
         self.orders[divider.name] = [(value, min(divider.divide), max(divider.divide))]
@@ -553,11 +553,11 @@ class _Builder:
 
     def add_mux(self, mux: Mux) -> None:
         handles = self.handles
-        key = f"{mux.name}.input"
+        key = mux_key(mux.name)
         selector = self.int_var(0, len(mux.inputs) - 1, key)
         handles.tree_settings[key] = selector
         self.orders[mux.name] = [(selector, 0, len(mux.inputs) - 1)]
-        handles.mux_inputs[mux.name] = mux.inputs
+        handles.mux_inputs[key] = mux.inputs
         # a common unit for the inputs: each input's amount scaled by a whole factor
         unit = _common_unit(handles.units[name] for name in mux.inputs)
         handles.units[mux.name] = unit
