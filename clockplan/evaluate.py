@@ -8,9 +8,11 @@ and allowed value, and scores every peripheral rate. It shares no code with
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from fractions import Fraction
 
+from clockplan._frozen import frozen
 from clockplan.interfaces.base import Option, Requirement, smallest
 from clockplan.plan import Plan, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz
@@ -92,12 +94,16 @@ class RateCheck:
 class Evaluation:
     """Every clock's exact frequency, every rate's check, and any broken limit."""
 
-    clocks: dict[str, Fraction]
-    roots: dict[str, str]
+    clocks: Mapping[str, Fraction]
+    roots: Mapping[str, str]
     """For each clock, the oscillator it comes from."""
     checks: tuple[RateCheck, ...]
     violations: tuple[str, ...]
     """Broken limits and disallowed settings, in words."""
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "clocks", frozen(self.clocks))
+        object.__setattr__(self, "roots", frozen(self.roots))
 
     @property
     def worst(self) -> RateCheck | None:

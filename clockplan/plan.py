@@ -10,6 +10,8 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from fractions import Fraction
 
+from clockplan._frozen import frozen
+
 __all__ = [
     "Plan",
     "SettingValue",
@@ -31,6 +33,10 @@ class Plan:
 
     sources: Mapping[str, Fraction]
     settings: Mapping[str, SettingValue]
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "sources", frozen(self.sources))
+        object.__setattr__(self, "settings", frozen(self.settings))
 
     def mux_input(self, mux: str) -> SettingValue | None:
         """The input a mux is set to (None when the plan does not say)."""

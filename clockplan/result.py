@@ -11,6 +11,7 @@ from dataclasses import dataclass
 from enum import StrEnum
 from fractions import Fraction
 
+from clockplan._frozen import frozen
 from clockplan.evaluate import Evaluation
 from clockplan.plan import Plan
 from clockplan.scenario import Scenario
@@ -72,6 +73,9 @@ class RankedPlan:
     """Every stage of the ranking order, in order; all proved when ``status`` is optimal."""
     choice: Mapping[str, Fraction]
     """The oscillators this plan uses and their frequencies: what makes the rank distinct."""
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "choice", frozen(self.choice))
 
     @property
     def worst_steps(self) -> int | None:
