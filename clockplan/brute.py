@@ -53,7 +53,7 @@ import numpy as np
 
 from clockplan.errors import ModelTooLargeError
 from clockplan.evaluate import Evaluation, evaluate_plan
-from clockplan.interfaces.base import Divisors, Requirement
+from clockplan.peripherals.base import Divisors, Requirement
 from clockplan.plan import Plan, SettingValue, pll_keys
 from clockplan.scenario import Scenario
 from clockplan.topology import evaluation_order

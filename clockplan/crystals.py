@@ -37,8 +37,8 @@ from fractions import Fraction
 
 import numpy as np
 
-from clockplan.interfaces.uart import per_end_allowance
-from clockplan.interfaces.usb import FULL_SPEED_CLOCK, full_speed_rule
+from clockplan.peripherals.uart import per_end_allowance
+from clockplan.peripherals.usb import FULL_SPEED_CLOCK, full_speed_rule
 from clockplan.quantities import (
     QuantityError,
     check_plain_text,

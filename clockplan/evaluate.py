@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._frozen import frozen
-from clockplan.interfaces.base import Option, Requirement, smallest
+from clockplan.peripherals.base import Option, Requirement, smallest
 from clockplan.plan import Plan, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz
 from clockplan.scenario import Divider, Mux, Pll, Scenario

@@ -15,7 +15,7 @@ from typing import Any
 import networkx as nx
 
 from clockplan.evaluate import RateCheck
-from clockplan.interfaces import Peripheral
+from clockplan.peripherals import Peripheral
 from clockplan.plan import Plan, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan

@@ -9,7 +9,7 @@ from __future__ import annotations
 import re
 
 from clockplan import __version__
-from clockplan.interfaces import Peripheral
+from clockplan.peripherals import Peripheral
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import STATUS_WORDS, RankedPlan, SearchResult
 from clockplan.scenario import Scenario

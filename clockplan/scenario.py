@@ -22,8 +22,8 @@ from clockplan._fields import Fields, hint
 from clockplan.catalog import catalog_frequencies
 from clockplan.circuits import parse_circuit_quantity
 from clockplan.errors import ArgumentTypeError, ScenarioError
-from clockplan.interfaces import Peripheral, read_peripheral
-from clockplan.interfaces.base import Divisors, largest
+from clockplan.peripherals import Peripheral, read_peripheral
+from clockplan.peripherals.base import Divisors, largest
 from clockplan.quantities import (
     HIGHEST_FREQUENCY,
     LOWEST_FREQUENCY,

@@ -22,7 +22,7 @@ from fractions import Fraction
 
 import numpy as np
 
-from clockplan.interfaces.base import Divisors, Requirement, largest
+from clockplan.peripherals.base import Divisors, Requirement, largest
 from clockplan.plan import SettingValue
 from clockplan.scenario import Scenario
 

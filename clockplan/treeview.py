@@ -14,7 +14,7 @@ from rich.text import Text
 from rich.tree import Tree
 
 from clockplan.evaluate import RateCheck
-from clockplan.interfaces import Peripheral
+from clockplan.peripherals import Peripheral
 from clockplan.plan import Plan
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import RankedPlan

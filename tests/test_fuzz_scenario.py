@@ -19,7 +19,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from clockplan.errors import ClockplanError, ScenarioError
-from clockplan.interfaces import READERS
+from clockplan.peripherals import READERS
 from clockplan.scenario import Scenario, default_scenario_path, parse_scenario
 from clockplan.solve.model import build_model
 from clockplan.sources import SOURCE_KINDS

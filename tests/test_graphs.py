@@ -11,7 +11,7 @@ import pytest
 
 from clockplan.evaluate import RateCheck, evaluate_plan
 from clockplan.graphs import dot_text, graphml_text, plan_graph
-from clockplan.interfaces.base import Requirement
+from clockplan.peripherals.base import Requirement
 from clockplan.plan import Plan
 from clockplan.scenario import Scenario
 from clockplan.solve import RankedPlan, Status, search

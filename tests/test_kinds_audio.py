@@ -5,7 +5,7 @@ from fractions import Fraction
 import pytest
 
 from clockplan.errors import ScenarioError
-from clockplan.interfaces.audio import FAMILIES, MASTER_RATIOS, QUALITIES, family
+from clockplan.peripherals.audio import FAMILIES, MASTER_RATIOS, QUALITIES, family
 from clockplan.solve import Status, search
 from tests.conftest import assert_plans_recheck, scenario_from
 from tests.oracle import best_key

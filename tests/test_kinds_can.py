@@ -8,7 +8,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.evaluate import evaluate_plan
-from clockplan.interfaces.can import (
+from clockplan.peripherals.can import (
     CLASSICAL_LIMITS,
     BitTiming,
     best_split,

@@ -7,7 +7,7 @@ import pytest
 
 from clockplan.cli import main
 from clockplan.evaluate import evaluate_plan
-from clockplan.interfaces import READERS
+from clockplan.peripherals import READERS
 from clockplan.scenario import load_scenario
 from clockplan.solve import Status, search
 from tests.conftest import scenario_from

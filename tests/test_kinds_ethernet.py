@@ -5,7 +5,7 @@ from fractions import Fraction
 import pytest
 
 from clockplan.evaluate import evaluate_plan
-from clockplan.interfaces.ethernet import KINDS, REFERENCES
+from clockplan.peripherals.ethernet import KINDS, REFERENCES
 from clockplan.solve import Status, search
 from tests.conftest import scenario_from
 from tests.oracle import best_key

@@ -6,7 +6,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.evaluate import evaluate_plan
-from clockplan.interfaces.usb import (
+from clockplan.peripherals.usb import (
     FULL_SPEED_ONLY_TOLERANCE,
     HIGH_SPEED_TOLERANCE,
     LOW_SPEED_RATE,

@@ -12,7 +12,7 @@ import pytest
 
 import clockplan.scenario as scenario_module
 from clockplan.errors import ScenarioError
-from clockplan.interfaces.base import largest, smallest
+from clockplan.peripherals.base import largest, smallest
 from clockplan.scenario import MAX_CANDIDATES, parse_scenario
 
 UART_16_FRACTION_BITS = """\

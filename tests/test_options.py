@@ -6,7 +6,7 @@ from fractions import Fraction
 import pytest
 
 from clockplan.evaluate import evaluate_plan
-from clockplan.interfaces.base import Option, Peripheral, Requirement
+from clockplan.peripherals.base import Option, Peripheral, Requirement
 from clockplan.solve import Status, search
 from tests.conftest import assert_plans_recheck, scenario_from
 from tests.oracle import best_key

@@ -6,7 +6,7 @@ from itertools import product
 import pytest
 
 from clockplan.errors import ScenarioError
-from clockplan.interfaces.uart import per_end_allowance, receiver_limits
+from clockplan.peripherals.uart import per_end_allowance, receiver_limits
 from clockplan.solve import search
 from tests.conftest import scenario_from
 
@@ -52,7 +52,7 @@ def test_12_mhz_at_115200_baud_by_hand():
 # S_M the middle sample of the majority vote (S_F = 8, S_M = 9 at 16×; 4 and 5 at 8×):
 #   R_slow = (D + 1)·S / (S − 1 + D·S + S_F)      R_fast = (D + 2)·S / ((D + 1)·S + S_M)
 # They reproduce the datasheets' tables, e.g. 8N1 at 16×: 144/151 and 160/153 (95.36 % and
-# 104.58 %); at 8×: 24/25 and 80/77. Written out here apart from clockplan/interfaces/uart.py.
+# 104.58 %); at 8×: 24/25 and 80/77. Written out here apart from clockplan/peripherals/uart.py.
 DATASHEET_VOTE_SAMPLES = {16: (8, 9), 8: (4, 5)}
 
 

@@ -18,7 +18,7 @@ from typing import cast
 from ortools.sat.python import cp_model
 
 from clockplan.evaluate import Evaluation, RateCheck, evaluate_plan
-from clockplan.interfaces.base import Requirement
+from clockplan.peripherals.base import Requirement
 from clockplan.plan import Plan
 from clockplan.quantities import format_relative
 from clockplan.result import Explanation, Relaxation

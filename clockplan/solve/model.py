@@ -33,7 +33,7 @@ from fractions import Fraction
 from ortools.sat.python import cp_model
 
 from clockplan.errors import InternalError, ModelTooLargeError
-from clockplan.interfaces.base import Divisors, Option, Requirement, largest, smallest, times
+from clockplan.peripherals.base import Divisors, Option, Requirement, largest, smallest, times
 from clockplan.plan import SettingValue, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Divider, Mux, Pll, Scenario

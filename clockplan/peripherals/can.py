@@ -50,8 +50,8 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Option, Peripheral, Requirement, largest, times
-from clockplan.interfaces.common import read_clock
+from clockplan.peripherals.base import Divisors, Option, Peripheral, Requirement, largest, times
+from clockplan.peripherals.common import read_clock
 from clockplan.quantities import (
     QuantityError,
     format_hz,

@@ -21,8 +21,8 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Peripheral, Requirement
-from clockplan.interfaces.common import read_allowance, read_clock
+from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_integer_choices
 
 __all__ = ["KINDS", "REFERENCES", "EthernetReference", "read"]

@@ -39,8 +39,8 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Peripheral, Requirement, times
-from clockplan.interfaces.common import read_allowance, read_clock
+from clockplan.peripherals.base import Divisors, Peripheral, Requirement, times
+from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import (
     HIGHEST_FREQUENCY,
     MAX_CHOICES,

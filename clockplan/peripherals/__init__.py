@@ -10,8 +10,8 @@ from __future__ import annotations
 from collections.abc import Callable
 
 from clockplan._fields import Fields
-from clockplan.interfaces import audio, buses, can, clock, ethernet, tick, timer, uart, usb
-from clockplan.interfaces.base import Peripheral, Requirement
+from clockplan.peripherals import audio, buses, can, clock, ethernet, tick, timer, uart, usb
+from clockplan.peripherals.base import Peripheral, Requirement
 
 __all__ = ["READERS", "Peripheral", "Requirement", "read_peripheral"]
 

@@ -32,8 +32,8 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Divisors, Peripheral, Requirement
-from clockplan.interfaces.common import parse_flag, read_clock
+from clockplan.peripherals.base import Divisors, Peripheral, Requirement
+from clockplan.peripherals.common import parse_flag, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
 __all__ = ["KINDS", "SD_MODES", "I2C_MODES", "SD_IDENTIFICATION", "read"]

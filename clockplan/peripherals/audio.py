@@ -24,8 +24,8 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Peripheral, Requirement, times
-from clockplan.interfaces.common import read_allowance, read_clock
+from clockplan.peripherals.base import Peripheral, Requirement, times
+from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import (
     QuantityError,
     format_hz,

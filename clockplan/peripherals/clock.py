@@ -7,8 +7,8 @@ radio reference. Optional internal divider set ``divide``.
 from __future__ import annotations
 
 from clockplan._fields import Fields
-from clockplan.interfaces.base import Peripheral, Requirement
-from clockplan.interfaces.common import read_allowance, read_clock
+from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
 KINDS = ("clock",)
