@@ -78,6 +78,8 @@ def _node_lines(name: str, data: dict[str, Any]) -> tuple[tuple[str, str, bool],
     lines = [(name, "#222222", True), (data["frequency"], "#222222", False)]
     if detail:
         lines.append((detail, "#555555", False))
+    if "loop" in data:
+        lines.append((data["loop"], "#555555", False))
     return tuple(lines)
 
 

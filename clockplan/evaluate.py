@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from fractions import Fraction
 
 from clockplan._frozen import frozen
@@ -100,10 +100,14 @@ class Evaluation:
     checks: tuple[RateCheck, ...]
     violations: tuple[str, ...]
     """Broken limits and disallowed settings, in words."""
+    detectors: Mapping[str, Fraction] = field(default_factory=dict)
+    """Each PLL's phase-detector (PFD) frequency: its input over its reference divider. Its
+    VCO frequency is its clock."""
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "clocks", frozen(self.clocks))
         object.__setattr__(self, "roots", frozen(self.roots))
+        object.__setattr__(self, "detectors", frozen(self.detectors))
 
     @property
     def worst(self) -> RateCheck | None:
@@ -127,6 +131,7 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
     """Recompute ``plan`` on ``scenario`` exactly."""
     clocks: dict[str, Fraction] = {}
     roots: dict[str, str] = {}
+    detectors: dict[str, Fraction] = {}
     violations: list[str] = []
     for name in evaluation_order(scenario):
         node = scenario.node(name)
@@ -146,7 +151,7 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
             reference = _setting(plan, reference_key, node.reference_divider, violations)
             whole = _setting(plan, multiplier_key, node.multiplier, violations)
             fraction = _setting(plan, fraction_key, range(2**node.fraction_bits), violations, 0)
-            detector = clocks[node.input] / reference
+            detector = detectors[name] = clocks[node.input] / reference
             _within(f"{name} PFD", detector, node.pfd, violations)
             clocks[name] = detector * (whole + Fraction(fraction, 2**node.fraction_bits))
             roots[name] = roots[node.input]
@@ -191,7 +196,7 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
                     option,
                 )
             )
-    return Evaluation(clocks, roots, tuple(checks), tuple(violations))
+    return Evaluation(clocks, roots, tuple(checks), tuple(violations), detectors)
 
 
 def _option(plan: Plan, requirement: Requirement, violations: list[str]) -> Option:

@@ -86,6 +86,10 @@ def plan_to_data(result: SearchResult, ranked: RankedPlan) -> dict[str, Any]:
         },
         "settings": dict(ranked.plan.settings),
         "clocks": {name: exact_string(value) for name, value in evaluation.clocks.items()},
+        "plls": {
+            name: {"pfd_hz": exact_string(pfd), "vco_hz": exact_string(evaluation.clocks[name])}
+            for name, pfd in evaluation.detectors.items()
+        },
         "peripherals": peripherals,
         "cost": _cost(result, ranked),
         "worst_share": float(evaluation.worst_share),

@@ -24,6 +24,7 @@ from clockplan.text import (
     format_rate,
     format_share,
     limit_text,
+    loop_text,
     rate_setting_text,
     rate_verdict,
     setting_text,
@@ -68,7 +69,14 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
             source = scenario.source(name)
             attributes.update(kind=source.kind, budget_ppm=float(source.budget * 10**6))
         attributes.update(node_settings(plan, name))
+        if name in evaluation.detectors:
+            attributes.update(
+                pfd_hz=exact_string(evaluation.detectors[name]),
+                vco_hz=exact_string(hz),
+                loop=loop_text(evaluation, name),
+            )
         details = [attributes["frequency"], attributes["setting"] or attributes.get("kind", "")]
+        details += [attributes["loop"]] if "loop" in attributes else []
         attributes["label"] = "\n".join([name, *details])
         graph.nodes[name].update(attributes)
     for peripheral in scenario.peripherals:

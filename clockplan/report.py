@@ -17,6 +17,7 @@ from clockplan.text import (
     format_rate,
     format_share,
     limit_text,
+    loop_text,
     rate_setting_text,
     rate_verdict,
     setting_text,
@@ -143,6 +144,8 @@ def _tree(scenario: Scenario, ranked: RankedPlan) -> str:
             return
         hz = evaluation.clocks[name]
         what = setting_text(scenario, plan, name) or scenario.source(name).kind
+        if loop := loop_text(evaluation, name):
+            what += f", {loop}"
         lines.append(
             f"{indent}- **{_md(name)}**: {format_hz(hz)} (`{exact_string(hz)}` Hz), {_md(what)}"
         )

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from fractions import Fraction
 
-from clockplan.evaluate import RateCheck
+from clockplan.evaluate import Evaluation, RateCheck
 from clockplan.plan import Plan, SettingValue, divider_key, pll_keys
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
@@ -30,6 +30,7 @@ __all__ = [
     "rate_setting_text",
     "register_value",
     "limit_text",
+    "loop_text",
 ]
 
 AT_RISK_SHARE = Fraction(4, 5)
@@ -154,3 +155,11 @@ def format_rate(value: Fraction, unit: str) -> str:
     if unit == "baud":
         return f"{float(value):.7g} Bd"
     return format_hz(value)
+
+
+def loop_text(evaluation: Evaluation, name: str) -> str:
+    """A PLL's phase-detector and VCO frequencies, ``"PFD 6 MHz, VCO 180.6 MHz"`` (empty for
+    any other node): the first figures an engineer checks against the chip's limits."""
+    if name not in evaluation.detectors:
+        return ""
+    return f"PFD {format_hz(evaluation.detectors[name])}, VCO {format_hz(evaluation.clocks[name])}"

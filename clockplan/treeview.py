@@ -25,6 +25,7 @@ from clockplan.text import (
     format_rate,
     format_share,
     limit_text,
+    loop_text,
     rate_setting_text,
     rate_verdict,
     setting_text,
@@ -81,6 +82,8 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
         if name in plan.sources:
             source = scenario.source(name)
             what = f"{source.kind}, budget {format_relative(source.budget)}"
+        if loop := loop_text(evaluation, name):
+            what += f"  {loop}"
         node = branch.add(
             Text.assemble(
                 (name, "bold"),
