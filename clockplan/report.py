@@ -21,6 +21,7 @@ from clockplan.text import (
     rate_setting_text,
     rate_verdict,
     setting_text,
+    setting_values,
 )
 from clockplan.text_safety import printable
 from clockplan.tree import clock_graph
@@ -162,8 +163,13 @@ def _tree(scenario: Scenario, ranked: RankedPlan) -> str:
 
 
 def _settings(ranked: RankedPlan) -> str:
-    rows = [[f"`{key}`", _md(value)] for key, value in ranked.plan.settings.items()]
-    return "## Settings\n\n" + _table(["setting", "value"], rows)
+    shown = setting_values(ranked.plan, ranked.evaluation)
+    rows = [[f"`{key}`", _md(value)] for key, value in shown.items()]
+    note = (
+        "A divisor is shown as the peripheral holds it (a fractional one with its fraction),"
+        " an option by its name; the JSON holds the counts the search works in.\n\n"
+    )
+    return "## Settings\n\n" + note + _table(["setting", "value"], rows)
 
 
 def _sources(scenario: Scenario, ranked: RankedPlan) -> str:

@@ -28,6 +28,8 @@ __all__ = [
     "setting_text",
     "rate_settings",
     "rate_setting_text",
+    "shown_value",
+    "setting_values",
     "register_value",
     "limit_text",
     "loop_text",
@@ -115,15 +117,34 @@ def rate_settings(check: RateCheck, plan: Plan) -> dict[str, SettingValue]:
     return {key: plan.settings[key] for key in keys if key in plan.settings}
 
 
+def shown_value(check: RateCheck, key: str, value: SettingValue) -> str:
+    """One of a rate's settings as every output shows it: a divisor as the peripheral holds
+    it (32.5625, not the count 521 in sixteenths), an option by its label."""
+    requirement = check.requirement
+    if key == requirement.setting:
+        return exact_decimal(register_value(check))
+    if key == requirement.option_setting:
+        return check.option.label or str(value)
+    return str(value)
+
+
+def setting_values(plan: Plan, evaluation: Evaluation) -> dict[str, str]:
+    """Every setting of the plan as shown, by key (see :func:`shown_value`)."""
+    shown = {key: str(value) for key, value in plan.settings.items()}
+    for check in evaluation.checks:
+        for key, value in rate_settings(check, plan).items():
+            shown[key] = shown_value(check, key, value)
+    return shown
+
+
 def rate_setting_text(check: RateCheck, plan: Plan) -> str:
     """The settings behind one rate in words: ``"divisor_115200 = 32.5625"``, stages, option."""
     requirement = check.requirement
-    parts = []
-    for key, value in rate_settings(check, plan).items():
-        if key == requirement.option_setting:
-            continue
-        shown = exact_decimal(register_value(check)) if key == requirement.setting else value
-        parts.append(f"{key.split('.', 1)[-1]} = {shown}")
+    parts = [
+        f"{key.split('.', 1)[-1]} = {shown_value(check, key, value)}"
+        for key, value in rate_settings(check, plan).items()
+        if key != requirement.option_setting
+    ]
     if check.option.label:
         parts.append(check.option.label)
     return ", ".join(parts)
