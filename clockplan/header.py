@@ -125,7 +125,7 @@ def header_text(scenario: Scenario, ranked: RankedPlan, *, prefix: str = DEFAULT
 
 def _rate_comment(check: RateCheck) -> str:
     requirement = check.requirement
-    unit = "Bd" if requirement.unit == "baud" else "Hz"
+    unit = {"baud": "Bd", "bit/s": "bit/s"}.get(requirement.unit, "Hz")
     achieved = (
         f"{format_rate(check.achieved, requirement.unit)} ({exact_string(check.achieved)} {unit})"
     )

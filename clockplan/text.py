@@ -172,9 +172,12 @@ def proof_text(ranked: RankedPlan) -> str:
 
 
 def format_rate(value: Fraction, unit: str) -> str:
-    """A rate in hertz with a readable prefix, or in baud as a plain number."""
+    """A rate in hertz with a readable prefix, a bit rate likewise in bit/s (500 kbit/s), or
+    a baud rate as a plain number."""
     if unit == "baud":
         return f"{float(value):.7g} Bd"
+    if unit == "bit/s":
+        return format_hz(value).removesuffix("Hz") + "bit/s"
     return format_hz(value)
 
 

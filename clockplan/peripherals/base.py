@@ -83,7 +83,7 @@ class Requirement:
     floor: Fraction | None = None
     """Lowest acceptable rate for a ceiling (a min..max window), hertz."""
     unit: str = "Hz"
-    """Unit to show the rate in: "Hz" or "baud"."""
+    """Unit to show the rate in: "Hz", "baud" (UARTs) or "bit/s" (CAN)."""
     stages: tuple[tuple[str, Divisors], ...] = ()
     """Named prescaler stages whose product is the divisor (a timer's prescaler × reload).
 

@@ -378,7 +378,7 @@ def _phase_requirement(
         allowance=max(option.allowance for option in options),
         allowance_basis=phase.basis,
         options=options,
-        unit="baud",
+        unit="bit/s",
     )
 
 
