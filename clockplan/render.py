@@ -12,6 +12,7 @@ from clockplan.compare import Change, Side
 from clockplan.evaluate import RateCheck
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import STATUS_WORDS, Explanation, RankedPlan, SearchResult
+from clockplan.scenario import Scenario
 from clockplan.text import format_rate, format_share, limit_text, proof_text
 from clockplan.text_safety import printable
 
@@ -54,12 +55,15 @@ def share_text(share: Fraction) -> Text:
 
 
 def ranking_table(result: SearchResult) -> Table:
-    """The ranked plans, one row per choice of oscillator frequencies."""
-    fixed = [source for source in result.scenario.sources if len(source.candidates) == 1]
-    chosen = [source.name for source in result.scenario.sources if len(source.candidates) > 1]
+    """The ranked plans, one row per choice of oscillator frequencies; consecutive ranks that
+    give every rate the same figures share one row that lists their choices."""
+    scenario = result.scenario
+    fixed = [source for source in scenario.sources if len(source.candidates) == 1]
+    chosen = [source.name for source in scenario.sources if len(source.candidates) > 1]
     caption = ", ".join(f"{source.name} {format_hz(source.candidates[0])}" for source in fixed)
+    costs = any(source.cost is not None for source in scenario.sources)
     table = Table(
-        title=Text(f"{printable(result.scenario.title)}: ranked clock plans"),
+        title=Text(f"{printable(scenario.title)}: ranked clock plans"),
         title_justify="left",
         caption=f"fixed oscillators: {caption}" if caption else None,
         caption_justify="left",
@@ -69,35 +73,77 @@ def ranking_table(result: SearchResult) -> Table:
     table.add_column("worst share", justify="right")
     table.add_column("worst error", justify="right")
     table.add_column("limited by")
+    if costs:
+        table.add_column("cost", justify="right")
     table.add_column("fastest clocks")
     table.add_column("proof")
-    fastest = [d.name for d in result.scenario.dividers if d.fastest]
-    for ranked in result.plans:
-        evaluation = ranked.evaluation
+    fastest = [d.name for d in scenario.dividers if d.fastest]
+    for group in _equivalent_runs(result.plans):
+        first, last = group[0], group[-1]
+        evaluation = first.evaluation
         worst = evaluation.worst
-        oscillators = ", ".join(format_hz(ranked.plan.sources[name]) for name in chosen) or "-"
+        oscillators = "; ".join(_choice_text(ranked, chosen) for ranked in group)
         clocks = (
             ", ".join(f"{name} {format_hz(evaluation.clocks[name])}" for name in fastest) or "-"
         )
+        ranks = str(first.rank) if first is last else f"{first.rank}–{last.rank}"
         table.add_row(
-            str(ranked.rank),
+            ranks,
             oscillators,
             share_text(evaluation.worst_share),
             format_relative(worst.worst_case) if worst else "-",
             f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
+            *([_cost_text(scenario, first)] if costs else []),
             clocks,
-            proof_text(ranked),
+            "; ".join(dict.fromkeys(proof_text(ranked) for ranked in group)),
         )
     return table
 
 
+def _rate_figures(ranked: RankedPlan) -> tuple[tuple[Fraction, Fraction], ...]:
+    """What a reader compares between plans: each rate's achieved value and worst case."""
+    return tuple((check.achieved, check.worst_case) for check in ranked.evaluation.checks)
+
+
+def _equivalent_runs(plans: tuple[RankedPlan, ...]) -> list[list[RankedPlan]]:
+    """Consecutive ranks grouped while every rate's figures stay the same."""
+    runs: list[list[RankedPlan]] = []
+    for ranked in plans:
+        if runs and _rate_figures(runs[-1][0]) == _rate_figures(ranked):
+            runs[-1].append(ranked)
+        else:
+            runs.append([ranked])
+    return runs
+
+
+def _choice_text(ranked: RankedPlan, chosen: list[str]) -> str:
+    """The plan's oscillators with a choice, "not used" for one that feeds nothing."""
+    texts = [
+        format_hz(ranked.plan.sources[name]) if name in ranked.choice else "not used"
+        for name in chosen
+    ]
+    return ", ".join(texts) or "-"
+
+
+def _cost_text(scenario: Scenario, ranked: RankedPlan) -> str:
+    """The cost of the oscillators the plan uses, as the scenario writes costs."""
+    parts = [scenario.source(name).cost for name in ranked.choice]
+    if any(part is None for part in parts):
+        return "-"
+    return f"{float(sum(part for part in parts if part is not None)):g}"
+
+
 def budget_table(result: SearchResult, ranked: RankedPlan) -> Table:
-    """Each oscillator's error budget: its terms, the worst case (sum) and the RSS."""
+    """Each oscillator the plan uses, with its error budget: its terms, the worst case (sum)
+    and the RSS."""
     table = Table(title=f"Plan {ranked.rank}: oscillator budgets", title_justify="left")
     headers = ("source", "kind", "frequency", "initial", "temp.", "aging", "pulling", "sum", "RSS")
     for name in headers:
         table.add_column(name, justify="left" if name in ("source", "kind") else "right")
+    used = ranked.choice or ranked.plan.sources
     for name, frequency in ranked.plan.sources.items():
+        if name not in used:
+            continue
         source = result.scenario.source(name)
         terms = source.terms
         table.add_row(
