@@ -9,7 +9,7 @@ from fractions import Fraction
 import numpy as np
 import pytest
 
-from clockplan.brute import (
+from benchmarks.enumerator import (
     STAGE_PRODUCTS,
     _Stages,
     enumerate_plans,
