@@ -121,7 +121,7 @@ def run_case(
     tell(f"{name}: peak memory of a search in a child process")
     peak = peak_search_memory(path)
     tell(f"{name}: enumerating (cap {cap:g} s)")
-    enumeration = enumerate_plans(scenario, first.precisions, cap=cap)
+    enumeration = enumerate_plans(scenario, cap=cap)
     return CaseResult(
         name,
         str(path),
@@ -144,7 +144,7 @@ def compare_optima(results: list[SearchResult], enumeration: Enumeration) -> str
         return f"the solver's proven optima differ between runs: {steps}"
     solver = steps[0]
     if first.plans:
-        recomputed = exact_key(first.plans[0].evaluation, first.precisions)
+        recomputed = exact_key(first.plans[0].evaluation)
         if recomputed != solver:
             return f"the solver reports key {solver} but its plan recomputes to {recomputed}"
     found = enumeration.best_key

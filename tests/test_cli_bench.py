@@ -174,7 +174,7 @@ def test_a_capped_enumerator_only_mismatches_when_it_beats_a_proof(solved):
 
 
 def test_a_mismatch_exits_1_loudly(monkeypatch, capsys):
-    def wrong(scenario, precisions, *, cap):
+    def wrong(scenario, *, cap):
         return _enumeration(1)  # no board in the benchmark reaches key 1 (0.01 %)
 
     monkeypatch.setattr(measure, "enumerate_plans", wrong)
