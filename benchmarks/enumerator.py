@@ -45,7 +45,7 @@ import bisect
 import itertools
 import math
 import time
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -439,12 +439,11 @@ class _Rate:
 
     requirement: Requirement
     node: str
-    power: float
     ways: list[tuple[_Axis | _Stages, float]]
     """Each option's divisors with its allowance (a float)."""
 
     @staticmethod
-    def of(requirement: Requirement, node: str, precision: int) -> _Rate:
+    def of(requirement: Requirement, node: str) -> _Rate:
         if requirement.stages:
             ways: list[tuple[_Axis | _Stages, float]] = [
                 (_Stages(requirement.stages), float(requirement.allowance))
@@ -454,7 +453,7 @@ class _Rate:
                 (_Axis.of(option.divisors), float(option.allowance))
                 for option in requirement.choices
             ]
-        return _Rate(requirement, node, float(10**precision), ways)
+        return _Rate(requirement, node, ways)
 
     def keys(self, kernel: np.ndarray, budget: np.ndarray | float) -> np.ndarray:
         """A lower bound of the rate's exact key per row; +inf where no divisor can serve."""
@@ -511,14 +510,14 @@ class _Level:
 
 
 class _Enumerator:
-    def __init__(self, scenario: Scenario, precisions: Mapping[str, int], cap: float) -> None:
+    def __init__(self, scenario: Scenario, cap: float) -> None:
         self.scenario = scenario
         self.sources = {source.name: index for index, source in enumerate(scenario.sources)}
         self.budgets = np.array([float(source.budget) for source in scenario.sources])
         self.plls = {pll.name: pll for pll in scenario.plls}
         self.dividers = {divider.name: divider for divider in scenario.dividers}
         self.muxes = {mux.name: mux for mux in scenario.muxes}
-        self.levels = self._levels(precisions)
+        self.levels = self._levels()
         self.stage_sets = {
             rate.requirement.setting: rate.ways[0][0]
             for level in self.levels
@@ -528,7 +527,6 @@ class _Enumerator:
         counts = [level.axis.size for level in self.levels]
         self.weights = [math.prod(counts[position + 1 :]) for position in range(len(counts))]
         self.total = math.prod(counts)
-        self.precisions = dict(precisions)
         self.started = time.monotonic()
         self.deadline = self.started + cap
         self.stopped = False
@@ -542,7 +540,7 @@ class _Enumerator:
         self.best_key: int | None = None
         self.best_plan: Plan | None = None
 
-    def _levels(self, precisions: Mapping[str, int]) -> list[_Level]:
+    def _levels(self) -> list[_Level]:
         levels: list[_Level] = []
         for name in evaluation_order(self.scenario):
             if name in self.sources:
@@ -567,13 +565,7 @@ class _Enumerator:
         closing = {level.node: level for level in levels}
         for peripheral in self.scenario.peripherals:
             for requirement in peripheral.requirements:
-                precision = 0
-                if not requirement.ceiling:
-                    if requirement.setting not in precisions:
-                        raise ValueError(f"no precision given for {requirement.setting}")
-                    precision = precisions[requirement.setting]
-                rate = _Rate.of(requirement, peripheral.clock, precision)
-                closing[peripheral.clock].rates.append(rate)
+                closing[peripheral.clock].rates.append(_Rate.of(requirement, peripheral.clock))
         return levels
 
     # -- walking ------------------------------------------------------------------------------
@@ -781,7 +773,7 @@ class _Enumerator:
             budget = self.scenario.source(tree.roots[peripheral.clock]).budget
             for requirement in peripheral.requirements:
                 stages = self.stage_sets.get(requirement.setting)
-                chosen = _exact_divisor(requirement, kernel, budget, self.precisions, stages)
+                chosen = _exact_divisor(requirement, kernel, budget, stages)
                 if chosen is None:
                     return None
                 settings.update(chosen)
@@ -789,7 +781,7 @@ class _Enumerator:
         evaluation = evaluate_plan(self.scenario, plan)
         if not evaluation.feasible:
             return None
-        return exact_key(evaluation, self.precisions), plan
+        return exact_key(evaluation), plan
 
 
 def _blocks(first: np.ndarray, counts: np.ndarray) -> Iterator[tuple[np.ndarray, ...]]:
@@ -826,7 +818,7 @@ def rate_key(error: Fraction, budget: Fraction, allowance: Fraction) -> int:
     return math.ceil(SHARE_STEPS * Fraction(worst + raised, ERROR_STEPS) / allowance)
 
 
-def exact_key(evaluation: Evaluation, precisions: Mapping[str, int] | None = None) -> int:
+def exact_key(evaluation: Evaluation) -> int:
     """The plan's key: the largest rate key (see :func:`rate_key`)."""
     key = 0
     for check in evaluation.checks:
@@ -840,7 +832,6 @@ def _exact_divisor(
     requirement: Requirement,
     kernel: Fraction,
     budget: Fraction,
-    precisions: Mapping[str, int],
     stages: _Stages | None,
 ) -> dict[str, SettingValue] | None:
     """Settings of the requirement's best divisor (the fastest, for a ceiling); None if none."""
@@ -910,12 +901,10 @@ def _nearest(values: Divisors, x: Fraction) -> tuple[int | None, int | None]:
     return below, above
 
 
-def enumerate_plans(
-    scenario: Scenario, precisions: Mapping[str, int], *, cap: float = 20.0
-) -> Enumeration:
+def enumerate_plans(scenario: Scenario, *, cap: float = 20.0) -> Enumeration:
     """Enumerate every combination of ``scenario``'s settings for at most ``cap`` seconds.
 
-    ``precisions`` gives each rate's rounding in decimal digits (the solver's
-    ``SearchResult.precisions``), so that the keys compare with the solver's.
+    Every rate is keyed in the search's own steps (:func:`rate_key`), so the optimum
+    compares with the search's.
     """
-    return _Enumerator(scenario, precisions, cap).run()
+    return _Enumerator(scenario, cap).run()
