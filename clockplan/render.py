@@ -82,7 +82,7 @@ def ranking_table(result: SearchResult) -> Table:
         first, last = group[0], group[-1]
         evaluation = first.evaluation
         worst = evaluation.worst
-        oscillators = "; ".join(_choice_text(ranked, chosen) for ranked in group)
+        oscillators = _choices_text([_choice_text(ranked, chosen) for ranked in group])
         clocks = (
             ", ".join(f"{name} {format_hz(evaluation.clocks[name])}" for name in fastest) or "-"
         )
@@ -123,6 +123,16 @@ def _choice_text(ranked: RankedPlan, chosen: list[str]) -> str:
         for name in chosen
     ]
     return ", ".join(texts) or "-"
+
+
+def _choices_text(texts: list[str]) -> str:
+    """Several plans' choices in one cell: ``"4, 5, 6 MHz"`` when they share a unit and each
+    is one frequency, else separated by semicolons."""
+    units = {text.rpartition(" ")[2] for text in texts}
+    if len(texts) > 1 and len(units) == 1 and all(", " not in text for text in texts):
+        unit = units.pop()
+        return ", ".join(text.removesuffix(f" {unit}") for text in texts) + f" {unit}"
+    return "; ".join(texts)
 
 
 def _cost_text(scenario: Scenario, ranked: RankedPlan) -> str:
