@@ -14,7 +14,7 @@ from clockplan.plan import SettingValue, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
 from clockplan.scenario import Scenario
-from clockplan.text import format_rate, format_share
+from clockplan.text import format_rate, format_share, rate_verdict
 
 __all__ = ["Side", "Change", "Value", "plan_changes"]
 
@@ -28,6 +28,8 @@ class Side:
 
     scenario: Scenario
     ranked: RankedPlan
+    closest: bool = False
+    """No plan meets every allowance: this is the closest one (least worst share)."""
 
 
 @dataclass(frozen=True)
@@ -36,7 +38,7 @@ class Change:
 
     node: str
     aspect: str
-    """oscillator, clock, setting, achieved, error or share."""
+    """oscillator, clock, setting, achieved, error, share or verdict (pass, at risk, fail)."""
     item: str
     """The setting's name or the rate's label; empty for a node's own frequency."""
     a: Value
@@ -64,10 +66,13 @@ def _rates(side: Side, node: str) -> dict[str, RateCheck]:
     return {c.requirement.label: c for c in checks if c.requirement.peripheral == node}
 
 
-def _rate_figures(check: RateCheck | None) -> dict[str, tuple[Fraction | None, Value, str]]:
+def _rate_figures(
+    check: RateCheck | None,
+) -> dict[str, tuple[Fraction | str | None, Value, str]]:
     """Per aspect: the exact value compared, its JSON value and its display text."""
     if check is None:
-        return {aspect: (None, None, "-") for aspect in ("achieved", "error", "share")}
+        return {aspect: (None, None, "-") for aspect in ("achieved", "error", "share", "verdict")}
+    verdict = rate_verdict(check)
     return {
         "achieved": (
             check.achieved,
@@ -80,6 +85,7 @@ def _rate_figures(check: RateCheck | None) -> dict[str, tuple[Fraction | None, V
             format_relative(check.error, signed=True),
         ),
         "share": (check.share, float(check.share), format_share(check.share)),
+        "verdict": (verdict, verdict, verdict),
     }
 
 

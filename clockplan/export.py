@@ -158,4 +158,6 @@ def _side_to_data(side: Side) -> dict[str, object]:
         "file": side.scenario.file,
         "rank": side.ranked.rank,
         "status": side.ranked.status.value,
+        "closest": side.closest,
+        "meets_every_allowance": side.ranked.evaluation.feasible,
     }

@@ -241,8 +241,9 @@ def changes_table(a: Side, b: Side, changes: tuple[Change, ...]) -> Table:
     table = Table(title="What changed from plan A to plan B", title_justify="left")
     table.add_column("node")
     table.add_column("what")
-    table.add_column(f"A: rank {a.ranked.rank}", justify="right")
-    table.add_column(f"B: rank {b.ranked.rank}", justify="right")
+    for label, side in (("A", a), ("B", b)):
+        which = "closest" if side.closest else f"rank {side.ranked.rank}"
+        table.add_column(f"{label}: {which}", justify="right")
     previous = None
     for change in changes:
         what = f"{change.aspect} {change.item}".strip()

@@ -118,6 +118,9 @@ class SearchResult:
     """Rates whose allowance the model holds slightly tighter than written (64-bit room)."""
     explanation: Explanation | None = None
     """Why no plan fits, when the search proved that and an explanation was asked for."""
+    closest: bool = False
+    """Whether the allowances were let go: the plans come as close as they can, and their
+    evaluations say which rates fail."""
 
     @property
     def proved(self) -> bool:

@@ -69,7 +69,9 @@ def add_search_options(parser: argparse.ArgumentParser) -> None:
     )
 
 
-def run_search(args: SearchOptions, *, show_progress: bool, explain: bool = False) -> SearchResult:
+def run_search(
+    args: SearchOptions, *, show_progress: bool, explain: bool = False, closest: bool = False
+) -> SearchResult:
     """Load the scenario named by ``args`` and search it, with a progress bar on slow runs.
 
     The time limit counts from ``args.started`` (when the command began). With ``explain``
@@ -85,7 +87,14 @@ def run_search(args: SearchOptions, *, show_progress: bool, explain: bool = Fals
         raise InputError("--time-limit", f"{args.time_limit} is not a positive number of seconds")
     started = args.started
     scenario = load_scenario(default_scenario_path() if args.file is None else args.file)
-    run = partial(search, scenario, top=args.top, time_limit=args.time_limit, workers=args.workers)
+    run = partial(
+        search,
+        scenario,
+        top=args.top,
+        time_limit=args.time_limit,
+        workers=args.workers,
+        closest=closest,
+    )
     if not show_progress or not sys.stderr.isatty():
         result = run(started=started)
     else:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import json
 import time
+from dataclasses import replace
 
 from rich.console import Console
 
@@ -20,7 +21,7 @@ from clockplan.errors import InputError
 from clockplan.exits import Exit
 from clockplan.export import changes_to_data
 from clockplan.render import changes_table
-from clockplan.result import SearchResult
+from clockplan.result import SearchResult, Status
 from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
 from clockplan.text_safety import printable
 
@@ -70,16 +71,23 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
 def _pick(result: SearchResult, rank: int, option: str) -> Side:
     if not result.plans:
         raise InputError(option, f"{result.scenario.file}: no plan to compare ({result.status})")
+    if result.closest and rank > 1:
+        raise InputError(option, f"{rank}: {result.scenario.file} has no plan; only its closest")
     if len(result.plans) < rank:
         found = len(result.plans)
         raise InputError(option, f"{rank}: {result.scenario.file} has only {found} ranked plans")
-    return Side(result.scenario, result.plans[rank - 1])
+    return Side(result.scenario, result.plans[rank - 1], closest=result.closest)
 
 
 def _search(file: str, top: int, args: argparse.Namespace) -> SearchResult:
-    """One side's search, with a time limit of its own."""
+    """One side's search, with a time limit of its own. When no plan meets every allowance
+    (proved), the closest plan is searched instead, with a time limit of its own too."""
     options = SearchOptions(file, top, args.time_limit, args.workers, started=time.monotonic())
-    return run_search(options, show_progress=not args.json)
+    result = run_search(options, show_progress=not args.json)
+    if result.status is not Status.INFEASIBLE or result.interrupted:
+        return result
+    options = replace(options, top=1, started=time.monotonic())
+    return run_search(options, show_progress=not args.json, closest=True)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -103,11 +111,17 @@ def run(args: argparse.Namespace) -> int:
     for label, side in (("A", a), ("B", b)):
         console.print(
             printable(
-                f"{label}: {side.scenario.title} ({side.scenario.file}), rank {side.ranked.rank}, "
-                f"{side.ranked.status.value}"
+                f"{label}: {side.scenario.title} ({side.scenario.file}), "
+                + (
+                    "no plan meets every allowance (proved); its closest plan, "
+                    f"{side.ranked.status.value}"
+                    if side.closest
+                    else f"rank {side.ranked.rank}, {side.ranked.status.value}"
+                )
             ),
             markup=False,
             highlight=False,
+            soft_wrap=True,
         )
     if changes:
         console.print(changes_table(a, b, changes))

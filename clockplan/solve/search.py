@@ -94,11 +94,14 @@ def search(
     workers: int = DEFAULT_WORKERS,
     progress: Callable[[int, int], None] | None = None,
     started: float | None = None,
+    closest: bool = False,
 ) -> SearchResult:
     """Rank up to ``top`` plans, each for a different choice of oscillators.
 
     ``time_limit`` bounds the whole search from ``started`` (a ``time.monotonic()`` reading,
-    by default now), model building included.
+    by default now), model building included. With ``closest`` the rates' allowances are
+    let go (every hardware limit still holds): the plans come as close as they can, by the
+    same ranking, and their evaluations say which rates fail and by how much.
     """
     if isinstance(top, bool) or not isinstance(top, int) or top < 1:
         raise InputError("top", f"{top!r} is not a positive count of plans")
@@ -108,7 +111,9 @@ def search(
         raise InputError("time_limit", f"{time_limit!r} is not a positive number of seconds")
     started = time.monotonic() if started is None else started
     deadline = started + time_limit
-    handles = build_model(scenario)
+    handles = build_model(scenario, relaxable=closest)
+    for limit in handles.limits.values():  # only in a relaxable model
+        _set_domain(limit.literal, [0, 0] if limit.key.endswith(" allowance") else [1, 1])
     order = ranking_order(scenario)
     domains = _Domains(handles)
     plans: list[RankedPlan] = []
@@ -155,6 +160,7 @@ def search(
         precisions=precisions,
         bounded_errors=frozenset(handles.bounded_errors),
         rounded_limits=frozenset(handles.rounded_limits),
+        closest=closest,
     )
 
 
