@@ -109,20 +109,16 @@ def run(args: argparse.Namespace) -> int:
         return Exit.OK
     console = Console()
     for label, side in (("A", a), ("B", b)):
-        console.print(
-            printable(
-                f"{label}: {side.scenario.title} ({side.scenario.file}), "
-                + (
-                    "no plan meets every allowance (proved); its closest plan, "
-                    f"{side.ranked.status.value}"
-                    if side.closest
-                    else f"rank {side.ranked.rank}, {side.ranked.status.value}"
-                )
-            ),
-            markup=False,
-            highlight=False,
-            soft_wrap=True,
+        which = (
+            "no plan meets every allowance (proved); its closest plan"
+            if side.closest
+            else f"rank {side.ranked.rank}"
         )
+        for line in (
+            f"{label}: {side.scenario.title} ({side.scenario.file})",
+            f"   {which}, {side.ranked.status.value}",
+        ):
+            console.print(printable(line), markup=False, highlight=False, soft_wrap=True)
     if changes:
         console.print(changes_table(a, b, changes))
     else:
