@@ -7,7 +7,7 @@ import pytest
 from clockplan.cli import main
 from clockplan.solve import Status, search
 from clockplan.solve.explain import explain_infeasibility
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 USB_BOARD = """
 title = "USB board"

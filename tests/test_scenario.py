@@ -4,7 +4,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.scenario import load_scenario
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 BASE = """
 title = "Bench board"

@@ -3,7 +3,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.tree import clock_graph, evaluation_order
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 SOURCES = """
 [sources.main]
