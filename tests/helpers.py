@@ -61,34 +61,25 @@ DEFAULT_STAGES = (
 )
 """The stages the search proves for each of the bundled board's two best plans."""
 
+_DEFAULT_BEST = Plan(
+    {"main": Fraction(4_000_000), "slow": Fraction(32768)},
+    {
+        "system.reference_divider": 1,
+        "system.multiplier": 60,
+        "core.divide": 2,
+        "usb_clock.divide": 5,
+        "bus.divide": 2,
+        "usb.divide": 1,
+        "console.divisor_115200": 8336,
+        "console.divisor_9600": 100000,
+        "clock_tick.chain": 32768,
+    },
+)
 DEFAULT_PLANS = (
+    _DEFAULT_BEST,
     Plan(
-        {"main": Fraction(4_000_000), "slow": Fraction(32768)},
-        {
-            "system.reference_divider": 1,
-            "system.multiplier": 60,
-            "core.divide": 2,
-            "usb_clock.divide": 5,
-            "bus.divide": 2,
-            "usb.divide": 1,
-            "console.divisor_115200": 8336,
-            "console.divisor_9600": 100000,
-            "clock_tick.chain": 32768,
-        },
-    ),
-    Plan(
-        {"main": Fraction(5_000_000), "slow": Fraction(32768)},
-        {
-            "system.reference_divider": 2,
-            "system.multiplier": 96,
-            "core.divide": 2,
-            "usb_clock.divide": 5,
-            "bus.divide": 2,
-            "usb.divide": 1,
-            "console.divisor_115200": 8336,
-            "console.divisor_9600": 100000,
-            "clock_tick.chain": 32768,
-        },
+        {**_DEFAULT_BEST.sources, "main": Fraction(5_000_000)},
+        {**_DEFAULT_BEST.settings, "system.reference_divider": 2, "system.multiplier": 96},
     ),
 )
 """The bundled board's two best plans, as ``search(default, top=2)`` ranks them."""
