@@ -1,19 +1,18 @@
-"""Shared fixtures: small scenarios written inline and the bundled default."""
+"""Shared fixtures: the bundled default scenario and its best plans set by hand.
+
+Plain helpers (boards, hand-built plans, the in-process CLI) live in ``tests/helpers.py``.
+"""
 
 from __future__ import annotations
 
-import textwrap
-
 import pytest
 
-from clockplan.evaluate import Evaluation, evaluate_plan
-from clockplan.scenario import Scenario, default_scenario_path, load_scenario, parse_scenario
-from clockplan.solve import SearchResult
+from clockplan.result import SearchResult
+from clockplan.scenario import Scenario, default_scenario_path, load_scenario
+from tests.helpers import assert_plans_recheck, default_result, scenario_from
 
-
-def scenario_from(text: str, name: str = "inline.toml") -> Scenario:
-    """Parse a scenario written inline in a test."""
-    return parse_scenario(textwrap.dedent(text), name)
+__all__ = ["assert_plans_recheck", "scenario_from"]
+"""Still imported from here by test_brute.py and test_cli_bench.py, which move elsewhere."""
 
 
 @pytest.fixture(scope="session")
@@ -21,10 +20,7 @@ def default_scenario() -> Scenario:
     return load_scenario(default_scenario_path())
 
 
-def assert_plans_recheck(scenario: Scenario, result: SearchResult) -> list[Evaluation]:
-    """Re-evaluate every ranked plan independently: no broken limit, every rate inside."""
-    evaluations = [evaluate_plan(scenario, ranked.plan) for ranked in result.plans]
-    for evaluation in evaluations:
-        assert evaluation.violations == ()
-        assert evaluation.feasible
-    return evaluations
+@pytest.fixture(scope="session")
+def default_best(default_scenario: Scenario) -> SearchResult:
+    """The bundled board's two best plans, set by hand and evaluated (no search)."""
+    return default_result(default_scenario)

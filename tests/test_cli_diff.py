@@ -6,17 +6,10 @@ import json
 from dataclasses import replace
 from fractions import Fraction
 
-from clockplan.cli import main
 from clockplan.compare import Side, plan_changes
 from clockplan.evaluate import evaluate_plan
 from clockplan.scenario import default_scenario_path
-from tests.test_graphs import BENCH_SETTINGS, bench_ranked
-
-
-def run_cli(capsys, *argv):
-    status = main(list(argv))
-    captured = capsys.readouterr()
-    return status, captured.out, captured.err
+from tests.helpers import BENCH_SETTINGS, bench_ranked, run_cli
 
 
 def test_two_ranks_of_the_default_scenario_differ_in_the_oscillator(capsys):

@@ -7,13 +7,7 @@ from fractions import Fraction
 
 import pytest
 
-from clockplan.cli import main
-
-
-def run_cli(capsys, *argv):
-    status = main(list(argv))
-    captured = capsys.readouterr()
-    return status, captured.out, captured.err
+from tests.helpers import run_cli
 
 
 def test_plan_on_the_default_scenario_is_optimal(capsys):

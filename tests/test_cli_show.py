@@ -13,19 +13,12 @@ import pytest
 from rich.console import Console
 
 import clockplan.commands.show as show
-from clockplan.cli import main
 from clockplan.scenario import default_scenario_path
 from clockplan.treeview import plan_tree
-from tests.test_graphs import bench_ranked
+from tests.helpers import bench_ranked, run_cli
 
 NODES = ("main", "slow", "system", "core", "usb_clock", "bus", "usb", "console", "clock_tick")
 """Every node of the bundled default scenario."""
-
-
-def run_cli(capsys, *argv):
-    status = main(list(argv))
-    captured = capsys.readouterr()
-    return status, captured.out, captured.err
 
 
 def test_show_prints_the_tree_of_the_default_scenario(capsys):

@@ -8,8 +8,7 @@ import pytest
 
 from clockplan.drawing import plan_svg
 from clockplan.graphs import plan_graph
-from clockplan.solve import search
-from tests.test_graphs import bench_ranked
+from tests.helpers import bench_ranked
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -34,8 +33,8 @@ def _boxes(root: ET.Element) -> dict[str, ET.Element]:
 
 
 @pytest.fixture(scope="module")
-def default_graph(default_scenario):
-    return plan_graph(default_scenario, search(default_scenario, top=1).plans[0])
+def default_graph(default_scenario, default_best):
+    return plan_graph(default_scenario, default_best.plans[0])
 
 
 def test_default_tree_parses_and_names_every_node(default_graph):

@@ -1,7 +1,8 @@
 """The evaluator's verdicts, fault by fault: each broken plan is named, never a crash.
 
-Each test starts from the bundled board's proved best plan, breaks one thing, and
-requires the evaluator to say so in a violation or a failing rate.
+Each test starts from the bundled board's best plan (set by hand in tests/helpers.py, the
+plan the search proves best), breaks one thing, and requires the evaluator to say so in a
+violation or a failing rate.
 """
 
 from __future__ import annotations
@@ -18,8 +19,8 @@ from clockplan.solve import search
 
 
 @pytest.fixture(scope="module")
-def best(default_scenario):
-    return search(default_scenario, top=1).plans[0].plan
+def best(default_best):
+    return default_best.plans[0].plan
 
 
 def _broken(best: Plan, **settings) -> Plan:

@@ -7,31 +7,12 @@ import pytest
 from clockplan.cli import main
 from clockplan.solve import Status, search
 from clockplan.solve.explain import explain_infeasibility
-from tests.conftest import scenario_from
+from tests.helpers import board_text, scenario_from
 
-USB_BOARD = """
-title = "USB board"
-[sources.main]
-kind = "{kind}"
-choose = ["12 MHz"]
-[plls.system]
-from = "main"
-reference_divider = "1..12"
-pfd = "1 MHz .. 2 MHz"
-multiplier = "50..200"
-vco = "96 MHz .. 400 MHz"
-[dividers.usb_clock]
-from = "system"
-divide = "2..8"
-[peripherals.usb]
-kind = "usb-full-speed"
-from = "usb_clock"
-[peripherals.console]
-kind = "uart"
-from = "usb_clock"
-baud = [115200]
-fraction_bits = 4
-"""
+
+def usb_board(kind: str) -> str:
+    """boards/usb.toml with its main oscillator of the given kind."""
+    return board_text("usb").replace('kind = "crystal"', f'kind = "{kind}"', 1)
 
 
 def test_ceramic_resonator_against_usb_full_speed_names_only_usb():
@@ -39,7 +20,7 @@ def test_ceramic_resonator_against_usb_full_speed_names_only_usb():
     # (the default) within ±0.05 %; ceramic resonator datasheets give ±0.5 % initial
     # tolerance alone, so USB cannot hold whatever the dividers do, while the UART's ±2.2 %
     # can.
-    scenario = scenario_from(USB_BOARD.format(kind="ceramic"))
+    scenario = scenario_from(usb_board("ceramic"))
     assert search(scenario, top=1).status is Status.INFEASIBLE
     explanation = explain_infeasibility(scenario)
     assert explanation.minimal
@@ -53,7 +34,7 @@ def test_ceramic_resonator_against_usb_full_speed_names_only_usb():
 
 
 def test_same_board_with_a_crystal_fits():
-    scenario = scenario_from(USB_BOARD.format(kind="crystal"))
+    scenario = scenario_from(usb_board("crystal"))
     assert search(scenario, top=1).plans[0].evaluation.feasible
 
 
@@ -61,7 +42,7 @@ def test_vco_range_no_multiplier_reaches_names_pfd_and_vco():
     # By hand: 12 MHz ÷ M with the PFD at most 2 MHz needs M ≥ 6, and × N ≤ 60 gives at most
     # 2 MHz × 60 = 120 MHz, below the VCO's 200 MHz floor. Either limit alone is fine.
     text = (
-        USB_BOARD.format(kind="crystal")
+        usb_board("crystal")
         .replace('multiplier = "50..200"', 'multiplier = "50..60"')
         .replace('vco = "96 MHz .. 400 MHz"', 'vco = "200 MHz .. 400 MHz"')
     )
@@ -76,7 +57,7 @@ def test_vco_range_no_multiplier_reaches_names_pfd_and_vco():
 @pytest.fixture
 def ceramic_file(tmp_path):
     path = tmp_path / "ceramic.toml"
-    path.write_text(USB_BOARD.format(kind="ceramic"))
+    path.write_text(usb_board("ceramic"))
     return path
 
 
@@ -111,7 +92,7 @@ def test_switching_to_the_internal_rc_names_every_rate_that_breaks_and_by_how_mu
     # (default budget 1 % trimmed + 2 % over temperature = 3 %, typical figures, common
     # practice) cannot hold USB's ±0.05 % (USB 2.0 §7.1.11, the default for full speed) nor
     # the UART's 7/313 ≈ 2.2364 % per end (derived for 8N1 at 16×, tests/test_standards.py).
-    scenario = scenario_from(USB_BOARD.format(kind="internal-rc"))
+    scenario = scenario_from(usb_board("internal-rc"))
     explanation = explain_infeasibility(scenario)
     assert explanation.beyond_sources == (
         "usb (48 MHz kernel) allows 500 ppm, but main (internal-rc) alone has a budget of 3 %: "

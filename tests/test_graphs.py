@@ -9,94 +9,18 @@ from fractions import Fraction
 import networkx as nx
 import pytest
 
-from clockplan.evaluate import RateCheck, evaluate_plan
+from clockplan.evaluate import RateCheck
 from clockplan.graphs import dot_text, graphml_text, plan_graph
 from clockplan.peripherals.base import Requirement
-from clockplan.plan import Plan
+from clockplan.result import RankedPlan
 from clockplan.scenario import Scenario
-from clockplan.solve import RankedPlan, Status, search
 from clockplan.text import AT_RISK, FAIL, PASS, exact_decimal, rate_verdict
-from tests.conftest import scenario_from
-
-BENCH = """
-title = 'Bench rig <A&B> "quoted" */ end \\ back'
-
-[sources.main]
-kind = "crystal"
-choose = ["12 MHz"]
-
-[sources.slow]
-kind = "tuning-fork"
-choose = ["32.768 kHz"]
-
-[plls.audio_pll]
-from = "main"
-reference_divider = "1..4"
-pfd = "1 MHz .. 20 MHz"
-multiplier = "8..40"
-fraction_bits = 3
-vco = "100 MHz .. 400 MHz"
-
-[dividers.core]
-from = "audio_pll"
-divide = "1..8"
-
-[dividers.usb_clock]
-from = "audio_pll"
-divide = "2..10"
-
-[muxes.sd_kernel]
-from = ["usb_clock", "core"]
-
-[peripherals.usb]
-kind = "usb-full-speed"
-from = "usb_clock"
-
-[peripherals.card]
-kind = "clock"
-from = "sd_kernel"
-rate = "28 MHz"
-allowance = "3000 ppm"
-
-[peripherals.console]
-kind = "uart"
-from = "core"
-baud = [9600]
-fraction_bits = 4
-
-[peripherals.tick]
-kind = "tick"
-from = "slow"
-chain = "pow2 15"
-"""
-"""A board of our own with a fractional-N PLL, a mux and one rate of each verdict."""
-
-BENCH_SETTINGS = {
-    "audio_pll.reference_divider": 1,
-    "audio_pll.multiplier": 16,
-    "audio_pll.fraction": 3,
-    "core.divide": 7,
-    "usb_clock.divide": 4,
-    "sd_kernel.input": "core",
-    "usb.divide": 1,
-    "card.divide": 1,
-    "console.divisor_9600": 46784,
-    "tick.chain": 32768,
-}
-
-
-def bench_ranked() -> tuple[Scenario, RankedPlan]:
-    """The bench board with a plan set by hand (no search), evaluated exactly."""
-    scenario = scenario_from(BENCH, "bench.toml")
-    plan = Plan({"main": Fraction(12_000_000), "slow": Fraction(32768)}, dict(BENCH_SETTINGS))
-    evaluation = evaluate_plan(scenario, plan)
-    assert not evaluation.violations
-    return scenario, RankedPlan(1, plan, evaluation, Status.OPTIMAL, (), dict(plan.sources))
+from tests.helpers import bench_ranked
 
 
 @pytest.fixture(scope="module")
-def default_ranked(default_scenario) -> tuple[Scenario, RankedPlan]:
-    return default_scenario, search(default_scenario, top=1).plans[0]
+def default_ranked(default_scenario, default_best) -> tuple[Scenario, RankedPlan]:
+    return default_scenario, default_best.plans[0]
 
 
 @pytest.fixture(params=["bench", "default"])

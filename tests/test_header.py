@@ -13,8 +13,7 @@ from clockplan.evaluate import evaluate_plan
 from clockplan.header import c_identifier, header_text
 from clockplan.plan import Plan
 from clockplan.solve import RankedPlan, Status, search
-from tests.conftest import scenario_from
-from tests.test_graphs import bench_ranked
+from tests.helpers import bench_ranked, scenario_from
 
 COMPILER = shutil.which("gcc") or shutil.which("cc")
 
@@ -79,8 +78,8 @@ def test_bench_header_compiles_and_prints_the_plan(tmp_path):
 
 
 @needs_compiler
-def test_default_header_compiles_and_prints_the_plan(tmp_path, default_scenario):
-    ranked = search(default_scenario, top=1).plans[0]
+def test_default_header_compiles_and_prints_the_plan(tmp_path, default_scenario, default_best):
+    ranked = default_best.plans[0]
     constants, absent = expected_constants(default_scenario, ranked)
     assert not absent
     header = header_text(default_scenario, ranked)

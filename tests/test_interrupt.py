@@ -9,41 +9,13 @@ import pytest
 
 from clockplan.scenario import load_scenario
 from clockplan.solve import search
-
-HARD = """
-[sources.main]
-kind = "crystal"
-choose = { from = "8 MHz", to = "26 MHz", step = "100 Hz" }
-[plls.system]
-from = "main"
-reference_divider = "1..16"
-pfd = "1 MHz .. 4 MHz"
-multiplier = "20..200"
-fraction_bits = 16
-vco = "192 MHz .. 480 MHz"
-[dividers.core]
-from = "system"
-divide = "1..64"
-goal = "fastest"
-max = "200 MHz"
-[peripherals.a]
-kind = "clock"
-from = "core"
-rate = "12.288 MHz"
-divide = "1..8"
-allowance = "100 ppm"
-[peripherals.b]
-kind = "uart"
-from = "core"
-baud = [115200, 921600, 31250]
-fraction_bits = 4
-"""
+from tests.helpers import board_text
 
 
 @pytest.fixture
 def hard_board(tmp_path):
     path = tmp_path / "hard.toml"
-    path.write_text(HARD)
+    path.write_text(board_text("hard"))
     return path
 
 

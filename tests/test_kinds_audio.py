@@ -7,7 +7,7 @@ import pytest
 from clockplan.errors import ScenarioError
 from clockplan.peripherals.audio import FAMILIES, MASTER_RATIOS, QUALITIES, family
 from clockplan.solve import Status, search
-from tests.conftest import assert_plans_recheck, scenario_from
+from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 # Source: AES5 (preferred sampling frequencies; from memory, its text was not read): 48 kHz

@@ -6,7 +6,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.solve import Status, search
-from tests.conftest import assert_plans_recheck, scenario_from
+from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 

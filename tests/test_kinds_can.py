@@ -20,7 +20,7 @@ from clockplan.peripherals.can import (
     timing_options,
 )
 from clockplan.solve import Status, search
-from tests.conftest import assert_plans_recheck, scenario_from
+from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 # Source: F. Hartwich, A. Bassemir, "The Configuration of the CAN Bit Timing", 6th

@@ -10,7 +10,7 @@ from clockplan.evaluate import evaluate_plan
 from clockplan.peripherals import READERS
 from clockplan.scenario import load_scenario
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 SHOWCASE = Path(__file__).resolve().parent.parent / "scenarios" / "kinds-showcase.toml"
 

@@ -7,7 +7,7 @@ import pytest
 from clockplan.evaluate import evaluate_plan
 from clockplan.peripherals.ethernet import KINDS, REFERENCES
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 from tests.oracle import best_key
 
 

@@ -5,7 +5,7 @@ from fractions import Fraction
 from clockplan.evaluate import evaluate_plan
 from clockplan.peripherals.timer import DEFAULT_ALLOWANCE
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 from tests.oracle import best_key
 
 

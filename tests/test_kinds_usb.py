@@ -12,7 +12,7 @@ from clockplan.peripherals.usb import (
     LOW_SPEED_RATE,
 )
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 from tests.oracle import best_key
 
 

@@ -8,7 +8,7 @@ import pytest
 from clockplan.evaluate import evaluate_plan
 from clockplan.peripherals.base import Option, Peripheral, Requirement
 from clockplan.solve import Status, search
-from tests.conftest import assert_plans_recheck, scenario_from
+from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 BOARD = """

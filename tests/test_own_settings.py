@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 
 from clockplan.result import Status
 from clockplan.solve import search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 CRYSTALS = ("8 MHz", "12 MHz", "14.7456 MHz", "16 MHz", "25 MHz")
 BAUDS = (9600, 19200, 115200, 230400, 460800)

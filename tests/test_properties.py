@@ -4,7 +4,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from clockplan.solve import Status, search
-from tests.conftest import assert_plans_recheck, scenario_from
+from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
 
 frequencies_mhz = st.lists(

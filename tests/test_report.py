@@ -8,19 +8,18 @@ from dataclasses import replace
 import pytest
 
 from clockplan.report import CAUTIONS, report_text
-from clockplan.solve import SearchResult, Status, search
-from tests.test_graphs import bench_ranked
+from clockplan.result import SearchResult, Status
+from tests.helpers import bench_ranked, result_of
 
 
 def bench_result(status: Status = Status.OPTIMAL) -> SearchResult:
     scenario, ranked = bench_ranked()
     ranked = replace(ranked, status=status)
-    return SearchResult(
-        scenario=scenario,
+    return result_of(
+        scenario,
+        ranked,
         status=status,
-        plans=(ranked,),
         order=("worst share", "smallest settings"),
-        elapsed=0.25,
         time_limited=status is Status.FEASIBLE,
     )
 
@@ -32,8 +31,8 @@ def table_rows(text: str, heading: str) -> list[list[str]]:
     return [[cell.strip() for cell in re.split(r"(?<!\\)\|", row)[1:-1]] for row in rows]
 
 
-def test_report_of_the_default_plan(default_scenario):
-    result = search(default_scenario, top=2)
+def test_report_of_the_default_plan(default_scenario, default_best):
+    result = default_best
     text = report_text(result, result.plans[0])
     assert text.startswith("# Clock plan: Weather-station hub, rev A\n")
     assert "optimal (every stage proved)" in text

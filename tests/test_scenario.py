@@ -4,26 +4,9 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.scenario import load_scenario
-from tests.conftest import scenario_from
+from tests.helpers import board_text, scenario_from
 
-BASE = """
-title = "Bench board"
-[sources.main]
-kind = "crystal"
-choose = ["12 MHz"]
-[plls.system]
-from = "main"
-reference_divider = "1..8"
-pfd = "1 MHz .. 2 MHz"
-multiplier = "50..200"
-vco = "100 MHz .. 400 MHz"
-[dividers.usb_clock]
-from = "system"
-divide = "2..8"
-[peripherals.usb]
-kind = "usb-full-speed"
-from = "usb_clock"
-"""
+BASE = board_text("usb")
 
 
 def test_default_scenario_reads(default_scenario):
@@ -47,7 +30,7 @@ def test_base_scenario_reads():
         (('choose = ["12 MHz"]', "choose = []"), "sources.main.choose", "empty"),
         (('kind = "crystal"', 'kind = "quartz"'), "sources.main.kind", "not one of"),
         (
-            ('reference_divider = "1..8"', 'reference_divider = "8..1"'),
+            ('reference_divider = "1..12"', 'reference_divider = "12..1"'),
             "plls.system.reference_divider",
             "backwards",
         ),
@@ -68,8 +51,8 @@ def test_base_scenario_reads():
             "peripherals.usb.kind",
             "did you mean 'usb-full-speed'",
         ),
-        (('title = "Bench board"', "title = 5"), "title", "expected a string"),
-        (('title = "Bench board"', 'title = "x"\n[extra]\na = 1'), "extra", "not a known key"),
+        (('title = "USB board"', "title = 5"), "title", "expected a string"),
+        (('title = "USB board"', 'title = "x"\n[extra]\na = 1'), "extra", "not a known key"),
     ],
 )
 def test_mistakes_name_the_key(change, key, message):

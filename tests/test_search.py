@@ -6,7 +6,7 @@ import pytest
 
 from clockplan.evaluate import evaluate_plan
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import default_result, scenario_from
 from tests.oracle import best_plan
 
 SMALL = {
@@ -175,3 +175,17 @@ def test_usb_48_mhz_exactly_from_25_mhz():
     assert check.achieved == 48_000_000
     assert check.error == 0
     assert check.requirement.allowance == Fraction(5, 10_000)
+
+
+def test_the_bundled_boards_best_plans_are_the_ones_the_output_tests_set_by_hand(
+    default_scenario,
+):
+    # Output tests use tests/helpers.py's hand-built plans; this keeps them the real answer.
+    found = search(default_scenario, top=2)
+    by_hand = default_result(default_scenario)
+    assert (found.status, found.order) == (by_hand.status, by_hand.order)
+    assert found.proved
+    assert [(r.rank, r.plan, r.stages, r.choice) for r in found.plans] == [
+        (r.rank, r.plan, r.stages, r.choice) for r in by_hand.plans
+    ]
+    assert [r.evaluation for r in found.plans] == [r.evaluation for r in by_hand.plans]

@@ -6,7 +6,7 @@ import pytest
 
 from clockplan.errors import ScenarioError
 from clockplan.solve import Status, search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 PPM = Fraction(1, 10**6)
 

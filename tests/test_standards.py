@@ -8,7 +8,7 @@ import pytest
 from clockplan.errors import ScenarioError
 from clockplan.peripherals.uart import per_end_allowance, receiver_limits
 from clockplan.solve import search
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 UART_ON_CRYSTAL = """
 [sources.main]

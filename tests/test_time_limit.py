@@ -9,9 +9,8 @@ import sys
 from itertools import count
 
 from clockplan.result import Status
-from clockplan.scenario import parse_scenario
 from clockplan.solve import search
-from tests.test_interrupt import HARD
+from tests.helpers import board, board_text
 
 SEARCH = sys.modules["clockplan.solve.search"]
 
@@ -21,7 +20,7 @@ def test_a_stage_cut_by_the_time_limit_is_named_and_the_plan_marked_unproved(mon
     # finds its time already spent. Nothing depends on the machine's speed.
     ticks = count()
     monkeypatch.setattr(SEARCH.time, "monotonic", lambda: 3600.0 * next(ticks))
-    result = search(parse_scenario(HARD, "hard.toml"), top=5, time_limit=7200)
+    result = search(board("hard"), top=5, time_limit=7200)
     assert result.time_limited
     assert result.status is not Status.OPTIMAL
     assert not result.proved
@@ -33,7 +32,7 @@ def test_a_stage_cut_by_the_time_limit_is_named_and_the_plan_marked_unproved(mon
 def test_the_command_line_exits_3_and_names_the_cut(tmp_path):
     # Two hundred ranks of this board in a tenth of a second: no machine finishes that.
     path = tmp_path / "hard.toml"
-    path.write_text(HARD)
+    path.write_text(board_text("hard"))
     completed = subprocess.run(
         [
             sys.executable,

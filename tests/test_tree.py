@@ -4,7 +4,7 @@ import pytest
 from clockplan.errors import ScenarioError
 from clockplan.topology import evaluation_order
 from clockplan.tree import clock_graph
-from tests.conftest import scenario_from
+from tests.helpers import scenario_from
 
 SOURCES = """
 [sources.main]
