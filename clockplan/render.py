@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from fractions import Fraction
 
-from rich.console import JustifyMethod
+from rich.console import Console, ConsoleOptions, JustifyMethod, RenderResult
+from rich.measure import Measurement
 from rich.table import Table
 from rich.text import Text
 
@@ -25,6 +27,68 @@ __all__ = [
     "budget_table",
     "changes_table",
 ]
+
+
+WIDEST = 10_000
+"""A width no table reaches: to measure how wide a table wants to be."""
+
+
+@dataclass(frozen=True)
+class Grid:
+    """A table's content, drawn wide when the terminal allows and stacked when it does not.
+
+    Stacked, each group of ``stack`` becomes one column whose cells hold the group's values
+    one under the other (its header joins theirs with " / "), so a narrow terminal folds
+    no number and cuts nothing with an ellipsis.
+    """
+
+    title: str | Text
+    columns: tuple[tuple[str, JustifyMethod], ...]
+    rows: tuple[tuple[str | Text, ...], ...]
+    stack: tuple[tuple[int, ...], ...] = ()
+    caption: str | None = None
+
+    def table(self, *, stacked: bool) -> Table:
+        """The grid as a rich table, wide or stacked."""
+        groups = _groups(len(self.columns), self.stack if stacked else ())
+        table = Table(
+            title=self.title, title_justify="left", caption=self.caption, caption_justify="left"
+        )
+        for group in groups:
+            header = " / ".join(self.columns[index][0] for index in group if self.columns[index][0])
+            table.add_column(header, justify=self.columns[group[0]][1], overflow="fold")
+        for row in self.rows:
+            table.add_row(*(_stacked_cell([row[index] for index in group]) for group in groups))
+        return table
+
+    def __rich_console__(self, console: Console, options: ConsoleOptions) -> RenderResult:
+        wide = self.table(stacked=False)
+        unbounded = options.update(width=WIDEST, max_width=WIDEST)
+        fits = Measurement.get(console, unbounded, wide).maximum <= options.max_width
+        yield wide if fits or not self.stack else self.table(stacked=True)
+
+
+def _groups(count: int, stack: tuple[tuple[int, ...], ...]) -> list[tuple[int, ...]]:
+    """Every column index once, in order, the stacked ones grouped."""
+    grouped = {group[0]: group for group in stack}
+    inside = {index for group in stack for index in group}
+    return [
+        grouped.get(index, (index,))
+        for index in range(count)
+        if index in grouped or index not in inside
+    ]
+
+
+def _stacked_cell(cells: list[str | Text]) -> str | Text:
+    """Several cells as one, each on its own line."""
+    if len(cells) == 1:
+        return cells[0]
+    joined = Text()
+    for position, cell in enumerate(cells):
+        if position:
+            joined.append("\n")
+        joined.append(cell if isinstance(cell, Text) else Text(cell))
+    return joined
 
 
 def status_line(result: SearchResult) -> Text:
@@ -54,7 +118,7 @@ def share_text(share: Fraction) -> Text:
     return Text(format_share(share), style=style)
 
 
-def ranking_table(result: SearchResult) -> Table:
+def ranking_table(result: SearchResult) -> Grid:
     """The ranked plans, one row per choice of oscillator frequencies; consecutive ranks that
     give every rate the same figures share one row that lists their choices."""
     scenario = result.scenario
@@ -62,22 +126,18 @@ def ranking_table(result: SearchResult) -> Table:
     chosen = [source.name for source in scenario.sources if len(source.candidates) > 1]
     caption = ", ".join(f"{source.name} {format_hz(source.candidates[0])}" for source in fixed)
     costs = any(source.cost is not None for source in scenario.sources)
-    table = Table(
-        title=Text(f"{printable(scenario.title)}: ranked clock plans"),
-        title_justify="left",
-        caption=f"fixed oscillators: {caption}" if caption else None,
-        caption_justify="left",
-    )
-    table.add_column("#", justify="right")
-    table.add_column(", ".join(chosen) or "oscillators")
-    table.add_column("worst share", justify="right")
-    table.add_column("worst error", justify="right")
-    table.add_column("limited by")
+    columns: list[tuple[str, JustifyMethod]] = [
+        ("#", "right"),
+        (", ".join(chosen) or "oscillators", "left"),
+        ("worst share", "right"),
+        ("worst error", "right"),
+        ("limited by", "left"),
+    ]
     if costs:
-        table.add_column("cost", justify="right")
-    table.add_column("fastest clocks")
-    table.add_column("proof")
+        columns.append(("cost", "right"))
+    columns += [("fastest clocks", "left"), ("proof", "left")]
     fastest = [d.name for d in scenario.dividers if d.fastest]
+    rows: list[tuple[str | Text, ...]] = []
     for group in _equivalent_runs(result.plans):
         first, last = group[0], group[-1]
         evaluation = first.evaluation
@@ -87,17 +147,25 @@ def ranking_table(result: SearchResult) -> Table:
             ", ".join(f"{name} {format_hz(evaluation.clocks[name])}" for name in fastest) or "-"
         )
         ranks = str(first.rank) if first is last else f"{first.rank}–{last.rank}"
-        table.add_row(
-            ranks,
-            oscillators,
-            share_text(evaluation.worst_share),
-            format_relative(worst.worst_case) if worst else "-",
-            f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
-            *([_cost_text(scenario, first)] if costs else []),
-            clocks,
-            "; ".join(dict.fromkeys(proof_text(ranked) for ranked in group)),
+        rows.append(
+            (
+                ranks,
+                oscillators,
+                share_text(evaluation.worst_share),
+                format_relative(worst.worst_case) if worst else "-",
+                f"{worst.requirement.peripheral} ({worst.requirement.label})" if worst else "-",
+                *([_cost_text(scenario, first)] if costs else []),
+                clocks,
+                "; ".join(dict.fromkeys(proof_text(ranked) for ranked in group)),
+            )
         )
-    return table
+    return Grid(
+        Text(f"{printable(scenario.title)}: ranked clock plans"),
+        tuple(columns),
+        tuple(rows),
+        stack=((2, 3),),
+        caption=f"fixed oscillators: {caption}" if caption else None,
+    )
 
 
 def _rate_figures(ranked: RankedPlan) -> tuple[tuple[Fraction, Fraction], ...]:
@@ -143,36 +211,45 @@ def _cost_text(scenario: Scenario, ranked: RankedPlan) -> str:
     return f"{float(sum(part for part in parts if part is not None)):g}"
 
 
-def budget_table(result: SearchResult, ranked: RankedPlan) -> Table:
+def budget_table(result: SearchResult, ranked: RankedPlan) -> Grid:
     """Each oscillator the plan uses, with its error budget: its terms, the worst case (sum)
     and the RSS."""
-    table = Table(title=f"Plan {ranked.rank}: oscillator budgets", title_justify="left")
     headers = ("source", "kind", "frequency", "initial", "temp.", "aging", "pulling", "sum", "RSS")
-    for name in headers:
-        table.add_column(name, justify="left" if name in ("source", "kind") else "right")
+    columns = tuple((name, _side(name in ("source", "kind"))) for name in headers)
     used = ranked.choice or ranked.plan.sources
+    rows = []
     for name, frequency in ranked.plan.sources.items():
         if name not in used:
             continue
         source = result.scenario.source(name)
         terms = source.terms
-        table.add_row(
-            name,
-            source.kind,
-            format_hz(frequency),
-            *(
-                format_relative(terms[key])
-                for key in ("tolerance", "stability", "aging", "pulling")
-            ),
-            format_relative(source.budget),
-            format_relative(source.budget_rss),
+        rows.append(
+            (
+                name,
+                source.kind,
+                format_hz(frequency),
+                *(
+                    format_relative(terms[key])
+                    for key in ("tolerance", "stability", "aging", "pulling")
+                ),
+                format_relative(source.budget),
+                format_relative(source.budget_rss),
+            )
         )
-    return table
+    return Grid(
+        f"Plan {ranked.rank}: oscillator budgets",
+        columns,
+        tuple(rows),
+        stack=((0, 1), (3, 4), (5, 6), (7, 8)),
+    )
 
 
-def rates_table(ranked: RankedPlan) -> Table:
+def _side(left: bool) -> JustifyMethod:
+    return "left" if left else "right"
+
+
+def rates_table(ranked: RankedPlan) -> Grid:
     """Every required rate of one plan: achieved, error, budget, allowance, margin."""
-    table = Table(title=f"Plan {ranked.rank}: every required rate", title_justify="left")
     columns: tuple[tuple[str, JustifyMethod], ...] = (
         ("peripheral", "left"),
         ("rate", "left"),
@@ -183,11 +260,13 @@ def rates_table(ranked: RankedPlan) -> Table:
         ("share", "right"),
         ("", "left"),
     )
-    for name, justify in columns:
-        table.add_column(name, justify=justify)
-    for check in ranked.evaluation.checks:
-        table.add_row(*_rate_cells(check))
-    return table
+    rows = tuple(tuple(_rate_cells(check)) for check in ranked.evaluation.checks)
+    return Grid(
+        f"Plan {ranked.rank}: every required rate",
+        columns,
+        rows,
+        stack=((0, 1), (2, 3), (4, 5)),
+    )
 
 
 def _rate_cells(check: RateCheck) -> list[str | Text]:

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import io
 import os
+import re
 from collections.abc import Callable
 from fractions import Fraction
 from pathlib import Path
@@ -150,3 +151,13 @@ def test_the_width_changes_the_wide_tables():
         assert narrow != wide, case
         assert max(map(len, narrow.splitlines())) <= 80
         assert max(map(len, wide.splitlines())) <= 120
+
+
+CUT = re.compile(r"…(?! ?(?:[kMG]?Hz|Bd|[kM]?bit/s|ppm|%))")
+"""An ellipsis that cuts a cell (rich's), not the one that marks a repeating decimal."""
+
+
+@pytest.mark.parametrize("case", sorted(CASES))
+def test_nothing_is_cut_with_an_ellipsis_at_80_columns(case):
+    text = rendered(CASES[case](), 80)
+    assert not CUT.search(text), text
