@@ -9,9 +9,9 @@ memory stays bounded however large the space is.
 Limits prune as they become known. A setting's allowed values are sorted, so the PFD, VCO
 and min/max limits turn into an interval of allowed indices per row; only the indices
 inside it are generated, and the rest are counted as checked (they are ruled out whole).
-As soon as a peripheral's kernel clock is known, each of its rates is scored:
+As soon as a peripheral's input clock is known, each of its rates is scored:
 
-* the best divisor follows analytically from the ideal divisor ``x = kernel·numerator /
+* the best divisor follows analytically from the ideal divisor ``x = input_clock·numerator /
   target``: the nearest allowed values below and above ``x`` (a range: round and clip; a
   tuple: ``np.searchsorted``); for options, each option in turn;
 * a divisor that is a product of named stages **enumerates** the distinct products when
@@ -21,7 +21,7 @@ As soon as a peripheral's kernel clock is known, each of its rates is scored:
   nearest reachable whole numbers are found by walking out from ``x`` with a complete
   factor test (trial division up to √n), and rows still unsettled after ``_WALK`` steps
   search every product of the others;
-* each rate is scored once per distinct kernel clock (and source) in a block;
+* each rate is scored once per distinct input clock (and source) in a block;
 * a rate that no divisor keeps inside its allowance (or a ceiling that no divisor meets)
   rules the row out.
 
@@ -455,13 +455,13 @@ class _Rate:
             ]
         return _Rate(requirement, node, ways)
 
-    def keys(self, kernel: np.ndarray, budget: np.ndarray | float) -> np.ndarray:
+    def keys(self, input_clock: np.ndarray, budget: np.ndarray | float) -> np.ndarray:
         """A lower bound of the rate's exact key per row; +inf where no divisor can serve."""
         requirement = self.requirement
-        ideal = kernel * (requirement.numerator / float(requirement.target))
+        ideal = input_clock * (requirement.numerator / float(requirement.target))
         if requirement.ceiling:
-            return self._ceiling(ideal, kernel, budget)
-        best = np.full(kernel.shape, np.inf)
+            return self._ceiling(ideal, input_clock, budget)
+        best = np.full(input_clock.shape, np.inf)
         for divisors, allowance in self.ways:
             for divisor in divisors.bracket(ideal):
                 signed = ideal / divisor - 1
@@ -477,16 +477,16 @@ class _Rate:
         return best
 
     def _ceiling(
-        self, ideal: np.ndarray, kernel: np.ndarray, budget: np.ndarray | float
+        self, ideal: np.ndarray, input_clock: np.ndarray, budget: np.ndarray | float
     ) -> np.ndarray:
         """0 where some divisor may keep the rate under the maximum (and over the floor)."""
         requirement = self.requirement
-        fits = np.zeros(kernel.shape, dtype=bool)
+        fits = np.zeros(input_clock.shape, dtype=bool)
         for divisors, _ in self.ways:
             divisor = divisors.at_least(ideal * (1 + budget) * (1 - FLOAT_SLACK))
             found = ~np.isnan(divisor)
             if requirement.floor is not None:
-                rate = kernel * requirement.numerator / np.where(found, divisor, 1)
+                rate = input_clock * requirement.numerator / np.where(found, divisor, 1)
                 slowest = rate * (1 - budget)
                 found &= slowest >= float(requirement.floor) * (1 - FLOAT_SLACK)
             fits |= found
@@ -506,7 +506,7 @@ class _Level:
     """"source", "reference", "whole", "fraction", "divider" or "mux"."""
     axis: _Axis
     rates: list[_Rate] = field(default_factory=list)
-    """Rates whose kernel clock this level completes."""
+    """Rates whose input clock this level completes."""
 
 
 class _Enumerator:
@@ -721,10 +721,10 @@ class _Enumerator:
         result = np.empty(len(clock))
         for root in np.unique(roots):
             chosen = roots == root
-            kernel, back = np.unique(clock[chosen], return_inverse=True)
-            key = np.zeros(len(kernel))
+            input_clock, back = np.unique(clock[chosen], return_inverse=True)
+            key = np.zeros(len(input_clock))
             for rate in level.rates:
-                key = np.maximum(key, rate.keys(kernel, self.budgets[root]))
+                key = np.maximum(key, rate.keys(input_clock, self.budgets[root]))
             result[chosen] = key[back]
         return result
 
@@ -769,11 +769,11 @@ class _Enumerator:
                 settings[level.name] = int(level.axis.value(np.array([index]))[0])
         tree = evaluate_plan(self.scenario, Plan(sources, settings))
         for peripheral in self.scenario.peripherals:
-            kernel = tree.clocks[peripheral.clock]
+            input_clock = tree.clocks[peripheral.clock]
             budget = self.scenario.source(tree.roots[peripheral.clock]).budget
             for requirement in peripheral.requirements:
                 stages = self.stage_sets.get(requirement.setting)
-                chosen = _exact_divisor(requirement, kernel, budget, stages)
+                chosen = _exact_divisor(requirement, input_clock, budget, stages)
                 if chosen is None:
                     return None
                 settings.update(chosen)
@@ -830,17 +830,17 @@ def exact_key(evaluation: Evaluation) -> int:
 
 def _exact_divisor(
     requirement: Requirement,
-    kernel: Fraction,
+    input_clock: Fraction,
     budget: Fraction,
     stages: _Stages | None,
 ) -> dict[str, SettingValue] | None:
     """Settings of the requirement's best divisor (the fastest, for a ceiling); None if none."""
-    ideal = kernel * requirement.numerator / requirement.target
+    ideal = input_clock * requirement.numerator / requirement.target
     best: tuple[tuple[Fraction, ...], dict[str, SettingValue]] | None = None
     for position, option in enumerate(requirement.choices):
         ways = _exact_candidates(requirement, option.divisors, ideal, budget, stages)
         for divisor, stage_values in ways:
-            rate = requirement.achieved(kernel, divisor)
+            rate = requirement.achieved(input_clock, divisor)
             if requirement.ceiling:
                 fits = rate * (1 + budget) <= requirement.target and (
                     requirement.floor is None or rate * (1 - budget) >= requirement.floor

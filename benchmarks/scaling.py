@@ -74,11 +74,11 @@ def scaling_scenario(point: ScalingPoint) -> str:
     for index in range(point.peripherals):
         kind, keys = _KINDS[index % len(_KINDS)]
         lines += [
-            f"[dividers.kernel{index}]",
+            f"[dividers.input_clock{index}]",
             f'from = "pll{index % point.plls}"\ndivide = "1..32"',
             f"[peripherals.device{index}]",
             kind,
-            f'from = "kernel{index}"',
+            f'from = "input_clock{index}"',
         ]
         if keys:
             lines.append(keys)

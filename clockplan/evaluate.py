@@ -28,8 +28,8 @@ class RateCheck:
     """How one required rate fares in a plan."""
 
     requirement: Requirement
-    kernel: Fraction
-    """Kernel clock feeding the peripheral, hertz."""
+    input_clock: Fraction
+    """Input clock feeding the peripheral, hertz."""
     divisor: int
     achieved: Fraction
     """Rate produced, hertz (or baud)."""
@@ -172,7 +172,7 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
             _within(name, clocks[name], (None, node.maximum), violations)
     checks = []
     for peripheral in scenario.peripherals:
-        kernel = clocks[peripheral.clock]
+        input_clock = clocks[peripheral.clock]
         source = scenario.source(roots[peripheral.clock])
         for requirement in peripheral.requirements:
             option = _option(plan, requirement, violations)
@@ -183,11 +183,11 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
                 )
             else:
                 divisor = _setting(plan, requirement.setting, option.divisors, violations)
-            achieved = requirement.achieved(kernel, divisor)
+            achieved = requirement.achieved(input_clock, divisor)
             checks.append(
                 RateCheck(
                     requirement,
-                    kernel,
+                    input_clock,
                     divisor,
                     achieved,
                     source.name,

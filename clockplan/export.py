@@ -115,7 +115,7 @@ def check_to_data(check: RateCheck) -> dict[str, Any]:
         "label": requirement.label,
         "setting": requirement.setting,
         "divisor": check.divisor,
-        "kernel_hz": exact_string(check.kernel),
+        "input_hz": exact_string(check.input_clock),
         "target_hz": exact_string(requirement.target),
         "achieved_hz": exact_string(check.achieved),
         "error_ppm": _ppm(check.error),

@@ -46,7 +46,7 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
     Graph: ``title``, ``file``, ``rank``, ``status``, ``worst_share``,
     ``meets_every_allowance``. Clock nodes: ``role``, ``hz`` (exact), ``frequency``
     (display), ``setting`` (display) and each setting under its own name. Peripherals:
-    ``kind``, ``clock``, ``kernel_hz``, ``verdict``, ``rates`` and per rate ``rate<i>_…``.
+    ``kind``, ``clock``, ``input_hz``, ``verdict``, ``rates`` and per rate ``rate<i>_…``.
     Edges: ``label``; a mux's input edges also ``input`` (index) and ``selected``.
     """
     plan, evaluation = ranked.plan, ranked.evaluation
@@ -81,9 +81,9 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
         graph.nodes[name].update(attributes)
     for peripheral in scenario.peripherals:
         checks = [c for c in evaluation.checks if c.requirement.peripheral == peripheral.name]
-        kernel = evaluation.clocks[peripheral.clock]
+        input_clock = evaluation.clocks[peripheral.clock]
         graph.nodes[peripheral.name].update(
-            _peripheral_attributes(peripheral, kernel, checks, plan)
+            _peripheral_attributes(peripheral, input_clock, checks, plan)
         )
     for parent, child, data in graph.edges(data=True):
         data["label"] = graph.nodes[child].get("setting", "") if "hz" in graph.nodes[child] else ""
@@ -94,12 +94,12 @@ def plan_graph(scenario: Scenario, ranked: RankedPlan) -> nx.DiGraph[str]:
 
 
 def _peripheral_attributes(
-    peripheral: Peripheral, kernel: Fraction, checks: list[RateCheck], plan: Plan
+    peripheral: Peripheral, input_clock: Fraction, checks: list[RateCheck], plan: Plan
 ) -> dict[str, Any]:
     attributes: dict[str, Any] = {
         "kind": peripheral.kind,
         "clock": peripheral.clock,
-        "kernel_hz": exact_string(kernel),
+        "input_hz": exact_string(input_clock),
         "verdict": worst_verdict(checks),
         "rates": len(checks),
     }

@@ -2,7 +2,7 @@
 
 A rate's divisor (a UART's fractional divisor, a timer's prescaler × reload, a CAN bit
 timing and its prescaler) touches that rate alone, so its best value follows from the
-kernel clock without any search: the achieved rate ``kernel × numerator / divisor`` falls
+input clock without any search: the achieved rate ``input_clock × numerator / divisor`` falls
 as the divisor grows, so for a rate with a tolerance the best divisor is one of the two
 allowed values around the ideal one, and for a rate under a ceiling it is the smallest
 allowed value that keeps the rate (plus the oscillator's budget) at or under the maximum.
@@ -60,10 +60,10 @@ def settle_settings(
     """
     settings: dict[str, SettingValue] = {}
     for peripheral in scenario.peripherals:
-        kernel = clocks[peripheral.clock]
+        input_clock = clocks[peripheral.clock]
         budget = scenario.source(roots[peripheral.clock]).budget
         for requirement in peripheral.requirements:
-            chosen = settle_rate(requirement, kernel, budget) or _slowest(requirement)
+            chosen = settle_rate(requirement, input_clock, budget) or _slowest(requirement)
             if requirement.stages:
                 for (name, _), value in zip(requirement.stages, chosen.stages, strict=True):
                     settings[requirement.stage_setting(name)] = value
@@ -81,13 +81,15 @@ def _slowest(requirement: Requirement) -> RateSetting:
     return RateSetting(0, largest(requirement.choices[0].divisors))
 
 
-def settle_rate(requirement: Requirement, kernel: Fraction, budget: Fraction) -> RateSetting | None:
-    """The best own settings of ``requirement`` fed by ``kernel`` hertz from a source with
+def settle_rate(
+    requirement: Requirement, input_clock: Fraction, budget: Fraction
+) -> RateSetting | None:
+    """The best own settings of ``requirement`` fed by ``input_clock`` hertz from a source with
     ``budget``; None when no allowed divisor meets a ceiling (a tolerance rate always has a
     best divisor, inside its allowance or not)."""
     if requirement.ceiling:
-        return _fastest_under_ceiling(requirement, kernel, budget)
-    ideal = kernel * requirement.numerator / requirement.target
+        return _fastest_under_ceiling(requirement, input_clock, budget)
+    ideal = input_clock * requirement.numerator / requirement.target
     best: tuple[tuple[Fraction, int, int], RateSetting] | None = None
     for index, option in enumerate(requirement.choices):
         for divisor, stages in _around(
@@ -184,11 +186,11 @@ def _bracket(values: Divisors, wanted: np.ndarray) -> tuple[np.ndarray, np.ndarr
 
 
 def _fastest_under_ceiling(
-    requirement: Requirement, kernel: Fraction, budget: Fraction
+    requirement: Requirement, input_clock: Fraction, budget: Fraction
 ) -> RateSetting | None:
     """The smallest divisor whose rate, with the budget, stays at or under the maximum (and
     at or over the floor): the fastest the ceiling allows."""
-    produced = kernel * requirement.numerator
+    produced = input_clock * requirement.numerator
     least = produced * (1 + budget) / requirement.target
     most = None
     if requirement.floor is not None:

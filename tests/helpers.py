@@ -31,7 +31,7 @@ BENCH_SETTINGS: dict[str, SettingValue] = {
     "audio_pll.fraction": 3,
     "core.divide": 7,
     "usb_clock.divide": 4,
-    "sd_kernel.input": "core",
+    "sd_clock.input": "core",
     "usb.divide": 1,
     "card.divide": 1,
     "console.divisor_9600": 46784,

@@ -104,12 +104,12 @@ def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # ty
     worst_share = Fraction(0)
     used = set()
     for peripheral in scenario.peripherals:
-        kernel = clocks[peripheral.clock]
+        input_clock = clocks[peripheral.clock]
         root = roots[peripheral.clock]
         used.add(root)
         budget = scenario.source(root).budget
         for requirement in peripheral.requirements:
-            found = _best_own(requirement, kernel, budget)
+            found = _best_own(requirement, input_clock, budget)
             if found is None:
                 return None
             index, divisor, stages, achieved = found
@@ -158,13 +158,13 @@ def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # ty
     return Scored(plan, key, worst, worst_share)
 
 
-def _best_own(requirement, kernel: Fraction, budget: Fraction):  # type: ignore[no-untyped-def]
+def _best_own(requirement, input_clock: Fraction, budget: Fraction):  # type: ignore[no-untyped-def]
     """The rate's own settings: every option and divisor tried; the smallest exact worst-case
     share wins (ties: smaller divisor, earlier option); a ceiling takes its fastest."""
     best = None
     for index, option in enumerate(requirement.choices):
         for divisor, stages in _divisors(requirement, option):
-            achieved = requirement.achieved(kernel, divisor)
+            achieved = requirement.achieved(input_clock, divisor)
             if requirement.ceiling:
                 fits = achieved * (1 + budget) <= requirement.target and (
                     requirement.floor is None or achieved * (1 - budget) >= requirement.floor

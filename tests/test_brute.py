@@ -95,22 +95,22 @@ SMALL = {
         tolerance = "10 ppm"
         stability = "10 ppm"
         aging = "5 ppm"
-        [dividers.kernel]
+        [dividers.input_clock]
         from = "main"
         divide = "1..4"
         [peripherals.vehicle_bus]
         kind = "can"
-        from = "kernel"
+        from = "input_clock"
         bitrate = "500 kHz"
         [peripherals.scheduler]
         kind = "timer"
-        from = "kernel"
+        from = "input_clock"
         rate = "1 kHz"
         prescaler = "1..40"
         reload = "100..400"
         [peripherals.flash]
         kind = "spi"
-        from = "kernel"
+        from = "input_clock"
         max = "3 MHz"
         min = "1 MHz"
     """,

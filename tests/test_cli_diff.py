@@ -78,13 +78,13 @@ def test_a_rank_that_does_not_exist_exits_2(capsys, tmp_path):
 
 def test_changes_are_exact_and_node_by_node():
     scenario, ranked = bench_ranked()
-    settings = {**BENCH_SETTINGS, "sd_kernel.input": "usb_clock", "card.divide": 2}
+    settings = {**BENCH_SETTINGS, "sd_clock.input": "usb_clock", "card.divide": 2}
     plan = replace(ranked.plan, settings=settings)
     other = replace(ranked, rank=2, plan=plan, evaluation=evaluate_plan(scenario, plan))
     changes = plan_changes(Side(scenario, ranked), Side(scenario, other))
     assert [(c.node, c.aspect, c.item) for c in changes] == [
-        ("sd_kernel", "clock", ""),
-        ("sd_kernel", "setting", "input"),
+        ("sd_clock", "clock", ""),
+        ("sd_clock", "setting", "input"),
         ("card", "setting", "divide"),
         ("card", "achieved", "28 MHz"),
         ("card", "error", "28 MHz"),

@@ -131,11 +131,11 @@ def test_tree_hangs_a_mux_under_its_chosen_input_and_marks_every_verdict():
     console = Console(width=200, color_system=None, record=True)
     console.print(plan_tree(scenario, ranked))
     lines = console.export_text().splitlines()
-    assert any("sd_kernel (mux input, not chosen)" in line for line in lines)
-    mux = next(i for i, line in enumerate(lines) if "sd_kernel  28.07" in line)
+    assert any("sd_clock (mux input, not chosen)" in line for line in lines)
+    mux = next(i for i, line in enumerate(lines) if "sd_clock  28.07" in line)
     assert "card" in lines[mux + 1]  # the card hangs under the chosen input's mux
     assert any("audio_pll  196.5 MHz  ÷1 ×16 + 3/8" in line for line in lines)
-    assert any(line.strip(" │├└─").startswith("[FAIL] 48 MHz kernel") for line in lines)
+    assert any(line.strip(" │├└─").startswith("[FAIL] 48 MHz clock") for line in lines)
     assert any(line.strip(" │├└─").startswith("[at risk] 28 MHz") for line in lines)
     assert any("divisor_9600 = 182.75" in line for line in lines)
 

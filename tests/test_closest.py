@@ -49,7 +49,7 @@ def test_diff_compares_a_board_that_fits_with_one_that_does_not(capsys):
         for change in document["changes"]
         if change["aspect"] == "verdict"
     }
-    assert verdicts[("usb", "48 MHz kernel")] == ("pass", "fail")
+    assert verdicts[("usb", "48 MHz clock")] == ("pass", "fail")
 
 
 def test_diff_says_which_side_is_only_the_closest_plan(capsys):

@@ -58,7 +58,7 @@ def test_layout_runs_left_to_right_by_depth():
     scenario, ranked = bench_ranked()
     boxes = _boxes(_parse(plan_svg(plan_graph(scenario, ranked))))
     x = {name: float(rect.get("x")) for name, rect in boxes.items()}
-    assert x["main"] < x["audio_pll"] < x["core"] < x["sd_kernel"] < x["card"]
+    assert x["main"] < x["audio_pll"] < x["core"] < x["sd_clock"] < x["card"]
     assert x["usb"] == x["card"] == x["tick"]  # peripherals share the last column
     assert x["main"] == x["slow"]
 
@@ -67,7 +67,7 @@ def test_unchosen_mux_input_is_dashed_and_verdicts_are_shown():
     scenario, ranked = bench_ranked()
     root = _parse(plan_svg(plan_graph(scenario, ranked)))
     dashed = [p for p in root.iter(f"{SVG}path") if p.get("stroke-dasharray")]
-    assert len(dashed) == 1  # usb_clock -> sd_kernel; core was chosen
+    assert len(dashed) == 1  # usb_clock -> sd_clock; core was chosen
     texts = _texts(root)
     assert any(text.endswith(", fail") for text in texts)
     assert any(text.endswith(", at risk") for text in texts)

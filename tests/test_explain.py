@@ -24,7 +24,7 @@ def test_ceramic_resonator_against_usb_full_speed_names_only_usb():
     assert search(scenario, top=1).status is Status.INFEASIBLE
     explanation = explain_infeasibility(scenario)
     assert explanation.minimal
-    assert explanation.conflict == ("usb (48 MHz kernel) within 500 ppm worst case",)
+    assert explanation.conflict == ("usb (48 MHz clock) within 500 ppm worst case",)
     (relaxation,) = explanation.relaxations
     budget = scenario.source("main").budget  # 0.5 % + 0.3 % + 5 × 0.1 % = 1.3 %
     assert "allow 1.3 % on usb" in relaxation.advice
@@ -65,7 +65,7 @@ def test_check_exit_status_and_reason(ceramic_file, capsys):
     assert main(["check", str(ceramic_file)]) == 1
     out = capsys.readouterr().out
     assert out.startswith(f"no plan: {ceramic_file}: USB board")
-    assert "usb (48 MHz kernel) within 500 ppm worst case" in out
+    assert "usb (48 MHz clock) within 500 ppm worst case" in out
 
 
 def test_check_json(ceramic_file, capsys):
@@ -73,7 +73,7 @@ def test_check_json(ceramic_file, capsys):
     data = json.loads(capsys.readouterr().out)
     assert data["status"] == "infeasible"
     assert data["meets_every_allowance"] is False
-    assert data["explanation"]["conflict"] == ["usb (48 MHz kernel) within 500 ppm worst case"]
+    assert data["explanation"]["conflict"] == ["usb (48 MHz clock) within 500 ppm worst case"]
 
 
 def test_check_passes_on_the_default_board(capsys):
@@ -95,7 +95,7 @@ def test_switching_to_the_internal_rc_names_every_rate_that_breaks_and_by_how_mu
     scenario = scenario_from(usb_board("internal-rc"))
     explanation = explain_infeasibility(scenario)
     assert explanation.beyond_sources == (
-        "usb (48 MHz kernel) allows 500 ppm, but main (internal-rc) alone has a budget of 3 %: "
+        "usb (48 MHz clock) allows 500 ppm, but main (internal-rc) alone has a budget of 3 %: "
         "over by 2.95 %",
         "console (115200 baud) allows 2.2364 %, but main (internal-rc) alone has a budget of "
         "3 %: over by 0.7636 %",

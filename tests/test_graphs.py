@@ -40,9 +40,9 @@ def test_plan_graph_holds_exact_frequencies_and_settings():
     assert graph.nodes["audio_pll"]["setting"] == "÷1 ×16 + 3/8"
     assert graph.nodes["core"]["hz"] == "196500000/7"
     assert graph.nodes["core"]["divide"] == 7
-    assert graph.nodes["sd_kernel"]["input"] == "core"
-    assert graph.edges["core", "sd_kernel"]["selected"] is True
-    assert graph.edges["usb_clock", "sd_kernel"]["selected"] is False
+    assert graph.nodes["sd_clock"]["input"] == "core"
+    assert graph.edges["core", "sd_clock"]["selected"] is True
+    assert graph.edges["usb_clock", "sd_clock"]["selected"] is False
     assert graph.nodes["console"]["rate1_achieved_hz"] == exact_decimal(
         Fraction(196_500_000, 7) * 16 / 46784
     )

@@ -73,7 +73,7 @@ def test_bench_header_compiles_and_prints_the_plan(tmp_path):
     assert "CLOCKPLAN_CORE_HZ" in absent  # 196.5 MHz / 7 is no whole number of hertz
     printed = compile_and_run(tmp_path, header_text(scenario, ranked), list(constants), absent)
     assert printed == {name: str(value) for name, value in constants.items()}
-    assert printed["CLOCKPLAN_SD_KERNEL_INPUT"] == "1"  # "core" is input 1
+    assert printed["CLOCKPLAN_SD_CLOCK_INPUT"] == "1"  # "core" is input 1
     assert printed["CLOCKPLAN_AUDIO_PLL_FRACTION"] == "3"
 
 
@@ -93,20 +93,20 @@ title = "Small CAN node"
 [sources.main]
 kind = "crystal"
 choose = ["16 MHz"]
-[dividers.kernel]
+[dividers.input_clock]
 from = "main"
 divide = "1..4"
 [peripherals.field_bus]
 kind = "can"
-from = "kernel"
+from = "input_clock"
 bitrate = "500 kHz"
 [peripherals.scheduler]
 kind = "timer"
-from = "kernel"
+from = "input_clock"
 rate = "1 kHz"
 [peripherals.flash]
 kind = "spi"
-from = "kernel"
+from = "input_clock"
 max = "5 MHz"
 """
 

@@ -15,7 +15,7 @@ BOARD = """
 [sources.main]
 kind = "crystal"
 choose = ["8 MHz", "10 MHz", "16 MHz", "20 MHz"]
-[dividers.kernel]
+[dividers.input_clock]
 from = "main"
 divide = [1, 2, 4]
 """
@@ -23,7 +23,7 @@ divide = [1, 2, 4]
 
 def with_requirements(*requirements: Requirement):
     scenario = scenario_from(BOARD)
-    peripheral = Peripheral("bus", "test", "kernel", requirements)
+    peripheral = Peripheral("bus", "test", "input_clock", requirements)
     return replace(scenario, peripherals=(peripheral,))
 
 
@@ -104,7 +104,7 @@ def test_floor_that_no_divisor_can_meet_is_infeasible():
 
 
 def timer_rate() -> Requirement:
-    # 1 kHz from the kernel through a prescaler (1..64) and a reload count (1..256).
+    # 1 kHz from the input_clock through a prescaler (1..64) and a reload count (1..256).
     return Requirement(
         "bus",
         "1 kHz tick",

@@ -1,8 +1,8 @@
 """No rate of a proved plan can do better by changing only its own settings.
 
 Random small boards are solved; for rank 1, every UART divisor and timer prescaler × reload
-is compared with an exact scan written here from the peripherals' formulas (baud = kernel /
-(oversampling × divisor), rate = kernel / (prescaler × reload); the usual baud-generator
+is compared with an exact scan written here from the peripherals' formulas (baud = input_clock /
+(oversampling × divisor), rate = input_clock / (prescaler × reload); the usual baud-generator
 and timer relations, common practice, no source), not from clockplan's.
 """
 
@@ -29,20 +29,20 @@ def _worst(error: Fraction) -> Fraction:
     return abs(error) + BUDGET * (1 + error)
 
 
-def _best_uart(kernel: Fraction, baud: int, oversampling: int, bits: int) -> Fraction:
+def _best_uart(input_clock: Fraction, baud: int, oversampling: int, bits: int) -> Fraction:
     scale = 2**bits
     return min(
-        _worst(kernel / (oversampling * Fraction(count, scale)) / baud - 1)
+        _worst(input_clock / (oversampling * Fraction(count, scale)) / baud - 1)
         for count in range(scale, 255 * scale + 1)
     )
 
 
-def _best_timer(kernel: Fraction, rate: Fraction) -> Fraction:
+def _best_timer(input_clock: Fraction, rate: Fraction) -> Fraction:
     best = None
     for prescaler in range(1, 65):
-        ideal = kernel / (prescaler * rate)
+        ideal = input_clock / (prescaler * rate)
         for reload in {min(max(int(ideal) + step, 1), 4096) for step in (0, 1)}:
-            worst = _worst(kernel / (prescaler * reload) / rate - 1)
+            worst = _worst(input_clock / (prescaler * reload) / rate - 1)
             best = worst if best is None or worst < best else best
     assert best is not None
     return best
@@ -91,9 +91,9 @@ def test_no_rate_improves_by_changing_only_its_own_settings(board):
     assert result.status is Status.OPTIMAL
     (best,) = result.plans
     for check in best.evaluation.checks:
-        kernel = check.kernel
+        input_clock = check.input_clock
         if check.requirement.peripheral == "console":
             baud = int(check.requirement.target)
-            assert check.worst_case == _best_uart(kernel, baud, oversampling, bits)
+            assert check.worst_case == _best_uart(input_clock, baud, oversampling, bits)
         else:
-            assert check.worst_case == _best_timer(kernel, check.requirement.target)
+            assert check.worst_case == _best_timer(input_clock, check.requirement.target)

@@ -123,13 +123,13 @@ multiplier = "20..60"
 fraction_bits = 24
 vco = "150 MHz .. 300 MHz"
 
-[dividers.kernel]
+[dividers.input_clock]
 from = "audio"
 divide = "1..32"
 
 [peripherals.capture]
 kind = "audio"
-from = "kernel"
+from = "input_clock"
 sample_rates = ["44.1 kHz"]
 master_clock = 256
 slots = 2

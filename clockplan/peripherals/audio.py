@@ -1,8 +1,8 @@
 """Audio (I2S, TDM): sampling frequencies through a master clock and a bit clock.
 
-The peripheral divides its kernel clock by a whole number to a master clock of
+The peripheral divides its input clock by a whole number to a master clock of
 ``master_clock`` × fs, and that again by a whole number to the bit clock, slots × slot bits
-× fs; so fs = kernel / (divide × master_clock). The error is counted in ppm of fs (the
+× fs; so fs = input_clock / (divide × master_clock). The error is counted in ppm of fs (the
 master and bit clocks carry the same relative error).
 
 Sources:

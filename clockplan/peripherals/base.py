@@ -1,4 +1,4 @@
-"""What every peripheral kind hands to the search: rate requirements on its kernel clock."""
+"""What every peripheral kind hands to the search: rate requirements on its input clock."""
 
 from __future__ import annotations
 
@@ -51,9 +51,9 @@ class Option:
 
 @dataclass(frozen=True)
 class Requirement:
-    """One rate a peripheral must produce from its kernel clock through its own divisor.
+    """One rate a peripheral must produce from its input clock through its own divisor.
 
-    The achieved rate is ``kernel × numerator / divisor``; for a UART with four
+    The achieved rate is ``input_clock × numerator / divisor``; for a UART with four
     fraction bits and 16× oversampling the numerator is 16 and the divisor counts
     sixteenths of the baud divisor, times 16.
 
@@ -64,7 +64,7 @@ class Requirement:
 
     peripheral: str
     label: str
-    """What this rate is, for people: "115200 baud", "48 MHz kernel"."""
+    """What this rate is, for people: "115200 baud", "48 MHz clock"."""
     setting: str
     """Key of this requirement's divisor in a plan's settings."""
     target: Fraction
@@ -109,9 +109,9 @@ class Requirement:
         """Key of the chosen option's index in a plan's settings (when there are several)."""
         return option_key(self.setting)
 
-    def achieved(self, kernel: Fraction, divisor: int) -> Fraction:
-        """The rate produced from ``kernel`` hertz with ``divisor``."""
-        return kernel * self.numerator / divisor
+    def achieved(self, input_clock: Fraction, divisor: int) -> Fraction:
+        """The rate produced from ``input_clock`` hertz with ``divisor``."""
+        return input_clock * self.numerator / divisor
 
 
 @dataclass(frozen=True)

@@ -1,6 +1,6 @@
-"""CAN and CAN FD: the bit timing built from the kernel clock, with the bus's own tolerance.
+"""CAN and CAN FD: the bit timing built from the input clock, with the bus's own tolerance.
 
-Bit rate = kernel / (prescaler × quanta), quanta = SYNC (1) + PROP + PHASE1 + PHASE2 time
+Bit rate = input_clock / (prescaler × quanta), quanta = SYNC (1) + PROP + PHASE1 + PHASE2 time
 quanta; the sample point sits after PHASE1: (1 + PROP + PHASE1) / quanta. The search picks the
 quanta count (one :class:`Option` each) and the prescaler; for every quanta count this module
 builds the segment split closest to the wanted sample point and the largest oscillator

@@ -1,7 +1,7 @@
-"""A hardware timer: an exact periodic rate (scheduler tick, PWM frequency) from its kernel clock.
+"""A hardware timer: an exact periodic rate (scheduler tick, PWM frequency) from its input clock.
 
-The timer counts its kernel clock through a prescaler and then a reload (period) counter,
-so rate = kernel / (prescaler × reload); the search picks both (two stages of the divisor).
+The timer counts its input clock through a prescaler and then a reload (period) counter,
+so rate = input_clock / (prescaler × reload); the search picks both (two stages of the divisor).
 A PWM needs duty-cycle resolution: the reload is its step count, so give ``reload`` a
 lower end (``"1000..65536"`` for at least 1000 steps).
 

@@ -1,6 +1,6 @@
-"""UART: baud rates from a kernel clock through oversampling and a (fractional) divisor.
+"""UART: baud rates from an input clock through oversampling and a (fractional) divisor.
 
-Baud = kernel / (oversampling × divisor), divisor = whole part + fraction / 2**fraction_bits.
+Baud = input_clock / (oversampling × divisor), divisor = whole part + fraction / 2**fraction_bits.
 
 Default allowance, derived. The receiver restarts timing on the start bit's falling
 edge, which it finds only to within one sample (1/S bit at S× oversampling), and votes

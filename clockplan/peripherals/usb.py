@@ -1,4 +1,4 @@
-"""USB: a kernel clock within the data-rate tolerance of the speed and of the device's role.
+"""USB: an input clock within the data-rate tolerance of the speed and of the device's role.
 
 Source: USB 2.0 Specification, §7.1.11 "Data Signaling Rate" (the section number and its
 wording are confirmed by published quotations):
@@ -14,7 +14,7 @@ So each kind defaults to the strict figure, and a scenario says when its device 
 looser one (``full_speed_only_device = true``, ``low_speed_device = true``); the allowance
 basis says which rule applied. A full-speed transceiver samples at 4× the bit rate, so its
 clock is 48 MHz and inherits the tolerance (common practice, no source); a low-speed
-device's kernel clock is its oversampling (4×, as at full speed: common practice) ×
+device's input clock is its oversampling (4×, as at full speed: common practice) ×
 1.5 Mb/s; a high-speed PHY multiplies one reference frequency (named in the scenario: the
 board straps one) up to 480 Mb/s, and its PLL passes the reference's relative error
 through unchanged.
@@ -32,7 +32,7 @@ from clockplan.quantities import format_hz, parse_frequency, parse_integer_choic
 KINDS = ("usb-full-speed", "usb-low-speed", "usb-high-speed")
 
 FULL_SPEED_CLOCK = Fraction(48_000_000)
-"""Kernel clock of a full-speed USB device: 4 × 12 Mb/s, in hertz."""
+"""Input clock of a full-speed USB device: 4 × 12 Mb/s, in hertz."""
 HOST_TOLERANCE = Fraction(5, 10_000)
 """±0.05 %: USB 2.0 §7.1.11, full and low speed sent by hosts, hubs, high-speed-capable devices."""
 FULL_SPEED_ONLY_TOLERANCE = Fraction(25, 10_000)
@@ -82,7 +82,7 @@ def read_full_speed(fields: Fields, name: str) -> Peripheral:
     allowance, basis = read_allowance(fields, tolerance, rule)
     requirement = Requirement(
         peripheral=name,
-        label="48 MHz kernel",
+        label="48 MHz clock",
         setting=f"{name}.divide",
         target=FULL_SPEED_CLOCK,
         allowance=allowance,
@@ -98,12 +98,12 @@ def read_low_speed(fields: Fields, name: str) -> Peripheral:
     divide = fields.take("divide", parse_integer_choices, (1,))
     tolerance, rule = low_speed_rule(fields.take("low_speed_device", parse_flag, False))
     allowance, basis = read_allowance(fields, tolerance, rule)
-    kernel = LOW_SPEED_RATE * oversampling
+    input_clock = LOW_SPEED_RATE * oversampling
     requirement = Requirement(
         peripheral=name,
-        label=f"{format_hz(kernel)} kernel",
+        label=f"{format_hz(input_clock)} clock",
         setting=f"{name}.divide",
-        target=kernel,
+        target=input_clock,
         allowance=allowance,
         allowance_basis=basis,
         divisors=divide,
