@@ -8,7 +8,7 @@ from rich.console import Console
 
 from benchmarks.cases import bench_directory, case_files
 from benchmarks.document import as_data
-from benchmarks.measure import machine, run_case
+from benchmarks.measure import import_floor, machine, run_case
 from benchmarks.scaling import run_scaling
 from benchmarks.tables import enumerator_table, header, scaling_table, solver_table
 from clockplan.errors import InputError
@@ -29,16 +29,18 @@ def run_benchmark(*, runs: int, cap: float, cases: str | None, scaling: bool, as
         progress.print(f"  {text}", style="dim", highlight=False)
 
     about = machine()
+    report(f"the floor: importing CP-SAT in a fresh process ({runs} runs)")
+    floor = import_floor(runs)
     results = [run_case(name, files[name], runs=runs, cap=cap, report=report) for name in chosen]
     rows = run_scaling(runs=runs, report=report) if scaling else []
     mismatches = [result for result in results if result.mismatch]
     if as_json:
-        document = as_data(about, runs=runs, cap=cap, results=results, scaling=rows)
+        document = as_data(about, runs=runs, cap=cap, floor=floor, results=results, scaling=rows)
         print(json.dumps(document, indent=2))
     else:
         console = Console()
-        console.print(header(about, runs=runs, cap=cap), highlight=False)
-        console.print(solver_table(results))
+        console.print(header(about, runs=runs, cap=cap, floor=floor), highlight=False)
+        console.print(solver_table(results, floor))
         console.print(enumerator_table(results))
         if rows:
             console.print(scaling_table(rows))

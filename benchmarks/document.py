@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import statistics
 from typing import Any
 
 from benchmarks.enumerator import SHARE_STEPS
@@ -17,6 +18,7 @@ def as_data(
     *,
     runs: int,
     cap: float,
+    floor: tuple[float, ...],
     results: list[CaseResult],
     scaling: list[ScalingRow],
 ) -> dict[str, Any]:
@@ -31,12 +33,14 @@ def as_data(
         },
         "runs": runs,
         "enumerator_cap_s": cap,
-        "cases": [_case_data(result) for result in results],
+        "floor_s": list(floor),
+        "floor_median_s": statistics.median(floor),
+        "cases": [_case_data(result, statistics.median(floor)) for result in results],
         "scaling": [_scaling_data(row) for row in scaling],
     }
 
 
-def _case_data(result: CaseResult) -> dict[str, Any]:
+def _case_data(result: CaseResult, floor: float) -> dict[str, Any]:
     enumeration = result.enumeration
     return {
         "name": result.name,
@@ -48,6 +52,7 @@ def _case_data(result: CaseResult) -> dict[str, Any]:
         "solve_median_s": result.solve_median,
         "process_s": list(result.process_seconds),
         "process_median_s": result.process_median,
+        "process_over_floor": result.process_median / floor,
         "peak_rss_bytes": result.peak_rss_bytes,
         "raw_combinations": str(result.raw_combinations),
         "enumerator": {

@@ -29,7 +29,18 @@ from clockplan.errors import ClockplanError
 from clockplan.scenario import load_scenario
 from clockplan.solve import SearchResult, Status, search
 
-__all__ = ["Machine", "CaseResult", "machine", "run_case", "compare_optima", "peak_search_memory"]
+__all__ = [
+    "Machine",
+    "CaseResult",
+    "machine",
+    "import_floor",
+    "run_case",
+    "compare_optima",
+    "peak_search_memory",
+]
+
+FLOOR_CODE = "import ortools.sat.python.cp_model"
+"""What every run of the solver pays before any work of ours: importing CP-SAT's module."""
 
 
 @dataclass(frozen=True)
@@ -52,6 +63,23 @@ def machine() -> Machine:
         metadata.version("numpy"),
         f"{platform.system()} {platform.machine()}",
     )
+
+
+def import_floor(runs: int) -> tuple[float, ...]:
+    """Seconds of each of ``runs`` fresh processes that only import CP-SAT: the floor that
+    a whole ``clockplan plan`` is compared with, measured in the same run as the cases."""
+    return tuple(_time_process([sys.executable, "-c", FLOOR_CODE]) for _ in range(runs))
+
+
+def _time_process(command: list[str]) -> float:
+    """Seconds of one process that must succeed."""
+    started = time.perf_counter()
+    finished = subprocess.run(command, capture_output=True, text=True, check=False)
+    seconds = time.perf_counter() - started
+    if finished.returncode != 0:
+        problem = (finished.stderr.strip().splitlines() or ["no message"])[-1]
+        raise ClockplanError(f"{' '.join(command[1:])} failed: {problem}")
+    return seconds
 
 
 # -- one case --------------------------------------------------------------------------------

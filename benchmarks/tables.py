@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import statistics
 
 from rich import box
 from rich.table import Table
@@ -14,24 +15,28 @@ from benchmarks.scaling import ScalingRow, dimension_value
 __all__ = ["header", "solver_table", "enumerator_table", "scaling_table"]
 
 
-def header(about: Machine, *, runs: int, cap: float) -> str:
-    """The lines above the tables: the machine, and how the figures were taken."""
+def header(about: Machine, *, runs: int, cap: float, floor: tuple[float, ...]) -> str:
+    """The lines above the tables: the machine, how the figures were taken, and the floor."""
     return (
         f"clockplan bench: {about.cores} cores, Python {about.python}, OR-Tools {about.ortools}, "
         f"numpy {about.numpy}, {about.system}\n"
         f"search and process: medians of {runs} runs; memory: peak of a search in a child "
-        f"process; enumerator capped at {cap:g} s per case (~: projected past the cap)"
+        f"process; enumerator capped at {cap:g} s per case (~: projected past the cap)\n"
+        f"floor: a process that only imports CP-SAT, {_seconds(statistics.median(floor))} "
+        f"(median of {len(floor)}); × floor = whole process / floor"
     )
 
 
-def solver_table(results: list[CaseResult]) -> Table:
-    """The search's row per case."""
+def solver_table(results: list[CaseResult], floor: tuple[float, ...]) -> Table:
+    """The search's row per case, the whole process also as a multiple of the floor."""
+    floor_median = statistics.median(floor)
     table = Table(title="Search", box=box.SIMPLE_HEAD, title_justify="left")
     table.add_column("case")
     table.add_column("status")
     table.add_column("optimum (key)", justify="right")
     table.add_column("search", justify="right")
     table.add_column("process", justify="right")
+    table.add_column("× floor", justify="right")
     table.add_column("memory", justify="right")
     table.add_column("raw space", justify="right")
     for result in results:
@@ -41,6 +46,7 @@ def solver_table(results: list[CaseResult]) -> Table:
             _optimum(result.worst_steps),
             _seconds(result.solve_median),
             _seconds(result.process_median),
+            f"{result.process_median / floor_median:.1f}×",
             f"{result.peak_rss_bytes / 2**20:.0f} MiB",
             _count(result.raw_combinations),
         )

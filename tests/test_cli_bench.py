@@ -47,10 +47,12 @@ def small_run(tmp_path_factory):
 def test_small_case_prints_both_tables(small_run, monkeypatch, capsys):
     *_, case = small_run
     monkeypatch.setattr(command, "run_case", lambda *args, **kwargs: case)
+    monkeypatch.setattr(command, "import_floor", lambda runs: (case.process_median / 2,) * runs)
     status = main(["bench", "--cases", "small", "--runs", "3", "--cap", "5"])
     out = capsys.readouterr().out
     assert status == 0
     assert "cores" in out and "OR-Tools" in out and "Python" in out
+    assert "× floor" in out and "2.0×" in out  # the process over a floor of half its time
     for label in ("Search", "Brute-force enumerator", "small", "optimal", "equal", "MiB"):
         assert label in out
     assert "MISMATCH" not in out
@@ -62,7 +64,8 @@ def test_json_holds_every_figure_and_the_optima_agree(small_run):
     assert data["machine"]["cores"] >= 1 and data["runs"] == 3
     (case,) = data["cases"]
     assert case["name"] == "small" and case["status"] == "optimal"
-    assert len(case["solve_s"]) == len(case["process_s"]) == 3
+    assert len(case["solve_s"]) == len(case["process_s"]) == len(data["floor_s"]) == 3
+    assert case["process_over_floor"] == case["process_median_s"] / data["floor_median_s"]
     assert case["peak_rss_bytes"] > 10 * 2**20
     enumerator = case["enumerator"]
     assert enumerator["finished"] and enumerator["best_key"] == case["optimum_key"]
