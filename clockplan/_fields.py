@@ -6,7 +6,7 @@ import difflib
 import json
 import re
 from collections.abc import Callable
-from typing import Any, TypeVar
+from typing import Any, TypeVar, overload
 
 from clockplan.errors import ScenarioError
 from clockplan.quantities import QuantityError
@@ -15,6 +15,7 @@ from clockplan.text_safety import MAX_QUOTED, quoted, shorten
 __all__ = ["Fields", "MISSING"]
 
 T = TypeVar("T")
+D = TypeVar("D")
 
 
 class _Missing:
@@ -59,7 +60,11 @@ class Fields:
         """Whether the file gives ``name``."""
         return name in self.table
 
-    def take(self, name: str, parse: Callable[[Any], T], default: Any = MISSING) -> T:
+    @overload
+    def take(self, name: str, parse: Callable[[Any], T]) -> T: ...
+    @overload
+    def take(self, name: str, parse: Callable[[Any], T], default: D) -> T | D: ...
+    def take(self, name: str, parse: Callable[[Any], T], default: object = MISSING) -> object:
         """Read ``name`` through ``parse``; a parse failure becomes a located error."""
         self._used.add(name)
         if name not in self.table:
@@ -69,7 +74,7 @@ class Fields:
                 close = difflib.get_close_matches(name, short, n=1, cutoff=0.6)
                 found = f" (found {quoted(close[0])}: misspelt?)" if close else ""
                 raise self.error(name, f"is missing{found}")
-            return default  # type: ignore[no-any-return]
+            return default
         try:
             return parse(self.table[name])
         except QuantityError as error:

@@ -10,13 +10,10 @@ return floats; their rational parts are still computed exactly before the last s
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass
 from fractions import Fraction
 from itertools import combinations_with_replacement
 from typing import Literal
-
-from clockplan.quantities import QuantityError, parse_number
 
 __all__ = [
     "PICOFARAD",
@@ -40,7 +37,6 @@ __all__ = [
     "rc_astable_frequency",
     "symmetric_astable_frequency",
     "lc_resonance_frequency",
-    "parse_circuit_quantity",
 ]
 
 PICOFARAD = Fraction(1, 10**12)
@@ -373,51 +369,3 @@ def lc_resonance_frequency(inductance: Fraction, capacitance: Fraction) -> float
     if inductance <= 0 or capacitance <= 0:
         raise ValueError("L and C must be positive")
     return 1 / (2 * math.pi * math.sqrt(float(inductance * capacitance)))
-
-
-CircuitDimension = Literal["resistance", "transconductance", "power", "voltage", "inductance"]
-
-_MILLI, _MICRO, _NANO = Fraction(1, 10**3), Fraction(1, 10**6), Fraction(1, 10**9)
-_CIRCUIT_UNITS: dict[str, dict[str, Fraction]] = {
-    "resistance": {
-        unit: factor
-        for names, factor in (
-            (("ohm", "ohms", "Ω"), Fraction(1)),
-            (("kohm", "kohms", "kΩ"), Fraction(10**3)),
-            (("Mohm", "Mohms", "MΩ"), Fraction(10**6)),
-        )
-        for unit in names
-    },
-    "transconductance": {
-        "A/V": Fraction(1),
-        "S": Fraction(1),
-        "mA/V": _MILLI,
-        "mS": _MILLI,
-        "uA/V": _MICRO,
-        "µA/V": _MICRO,
-        "uS": _MICRO,
-        "µS": _MICRO,
-    },
-    "power": {"W": Fraction(1), "mW": _MILLI, "uW": _MICRO, "µW": _MICRO, "nW": _NANO},
-    "voltage": {"V": Fraction(1), "mV": _MILLI},
-    "inductance": {"H": Fraction(1), "mH": _MILLI, "uH": _MICRO, "µH": _MICRO, "nH": _NANO},
-}
-"""Units of the circuit quantities and their exact factor to the SI unit (case matters)."""
-
-_AMOUNT = re.compile(r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([^\d\s.+-]\S*)\s*$")
-
-
-def parse_circuit_quantity(text: str, dimension: CircuitDimension) -> Fraction:
-    """Read a positive circuit quantity with its unit exactly: ``"40 ohm"`` -> ``Fraction(40)``."""
-    units = _CIRCUIT_UNITS[dimension]
-    match = _AMOUNT.match(text) if isinstance(text, str) else None
-    if match is None:
-        example = next(iter(units))
-        raise QuantityError(f'{text!r} is not a {dimension} such as "10 {example}"')
-    number, unit = match.groups()
-    if unit not in units:
-        raise QuantityError(f"{text!r} has unit {unit!r}; expected one of {', '.join(units)}")
-    value = parse_number(number) * units[unit]
-    if value <= 0:
-        raise QuantityError(f"{text!r} is not a positive {dimension}")
-    return value

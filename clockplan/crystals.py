@@ -29,7 +29,6 @@ from __future__ import annotations
 import bisect
 import functools
 import math
-import re
 from collections import defaultdict
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -37,22 +36,14 @@ from fractions import Fraction
 
 import numpy as np
 
+from clockplan.peripherals.base import Divisors
 from clockplan.peripherals.uart import per_end_allowance
 from clockplan.peripherals.usb import FULL_SPEED_CLOCK, full_speed_rule
-from clockplan.quantities import (
-    QuantityError,
-    check_plain_text,
-    format_hz,
-    parse_frequency,
-    parse_number,
-    parse_quantity,
-)
-from clockplan.text_safety import quoted
+from clockplan.quantities import QuantityError, format_hz
 
 __all__ = [
     "DEFAULT_ALLOWANCE",
     "MAX_GRID",
-    "Choices",
     "Candidates",
     "RateTarget",
     "PllLimits",
@@ -61,9 +52,6 @@ __all__ = [
     "RateResult",
     "Candidate",
     "CrystalSearch",
-    "parse_rate",
-    "parse_rate_list",
-    "parse_rate_range",
     "uart_targets",
     "usb_full_speed_target",
     "audio_targets",
@@ -73,9 +61,6 @@ __all__ = [
     "evaluate",
     "search_crystals",
 ]
-
-Choices = range | tuple[int, ...]
-"""Allowed values of a whole-number setting: a ``range`` (step 1) or a sorted tuple."""
 
 DEFAULT_ALLOWANCE = Fraction(1, 1000)
 """±0.1 % for audio and plain rates: common practice, no source (0.1 % is 1.7 cents of pitch)."""
@@ -102,58 +87,6 @@ _CHUNK = 1 << 15
 """Candidates screened per numpy pass: small enough that the temporaries stay in cache."""
 
 
-_SHORTHAND = re.compile(
-    r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([^\d\s.]\S*)?\s*$", re.ASCII
-)
-_PREFIXES = {None: "Hz", "k": "kHz", "K": "kHz", "M": "MHz", "G": "GHz"}
-_SPAN = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$", re.ASCII)
-
-
-def parse_rate(text: str) -> Fraction:
-    """Read a rate as people type it, in hertz: "115200", "44.1k", "48 kHz", "1kHz", "12M".
-
-    A bare number is hertz (or baud); k, M and G alone stand for kHz, MHz and GHz.
-    """
-    match = _SHORTHAND.match(check_plain_text(text))
-    if match is None:
-        raise QuantityError(f'{quoted(text)} is not a rate such as 115200, 44.1k or "48 kHz"')
-    number, unit = match.groups()
-    hertz_unit = _PREFIXES.get(unit, unit)
-    try:
-        parse_quantity(f"1 {hertz_unit}", "frequency")
-    except QuantityError:
-        expected = (
-            'write "MHz" for megahertz or "mHz" for millihertz'
-            if unit.lower() == "mhz"
-            else "expected Hz, kHz, MHz, GHz or the shorthand k, M, G"
-        )
-        raise QuantityError(f"{quoted(text)} has unit {quoted(unit)}; {expected}") from None
-    if parse_number(number) <= 0:
-        raise QuantityError(f"{text!r} is not a positive rate")
-    return parse_frequency(f"{number} {hertz_unit}")
-
-
-def parse_rate_list(text: str) -> tuple[Fraction, ...]:
-    """Read comma-separated rates, "9600,115200" or "48k, 44.1k"; repeats are dropped."""
-    parts = [part.strip() for part in text.split(",")]
-    if not any(parts):
-        raise QuantityError(f"{text!r} is an empty list; give at least one rate")
-    if not all(parts):
-        raise QuantityError(f"{text!r} has an empty entry between commas")
-    return tuple(dict.fromkeys(parse_rate(part) for part in parts))
-
-
-def parse_rate_range(text: str) -> tuple[Fraction, Fraction]:
-    """Read "1 MHz..50 MHz" (or "1M..50M") to (low, high) in hertz, low <= high."""
-    match = _SPAN.match(text)
-    if match is None:
-        raise QuantityError(f'{text!r} is not a range such as "1 MHz..50 MHz"')
-    low, high = parse_rate(match.group(1)), parse_rate(match.group(2))
-    if low > high:
-        raise QuantityError(f"{text!r} runs backwards; write the low end first")
-    return low, high
-
-
 @dataclass(frozen=True)
 class RateTarget:
     """One rate to reach: the divided clock it needs, its divisor counts and its allowance."""
@@ -166,7 +99,7 @@ class RateTarget:
     """The rate asked for, in hertz (baud for a UART, fs for audio)."""
     clock: Fraction
     """The clock one divisor count must give, in hertz: source / count = clock is exact."""
-    counts: Choices
+    counts: Divisors
     """Allowed divisor counts, in steps of 1/``counts_per_divisor`` of the divisor."""
     counts_per_divisor: int
     """Counts per whole divisor: 2**fraction_bits for a fractional baud divisor, else 1."""
@@ -199,8 +132,8 @@ class PllSetting:
 class PllLimits:
     """A simple integer-N PLL feeding every rate's divisor from one VCO."""
 
-    reference_divider: Choices
-    multiplier: Choices
+    reference_divider: Divisors
+    multiplier: Divisors
     vco: tuple[Fraction, Fraction]
     """Allowed VCO range (low, high), hertz."""
     pfd: tuple[Fraction, Fraction]
@@ -314,7 +247,7 @@ class CrystalSearch:
     """Candidates no PLL setting can take (always 0 with integer division)."""
 
 
-def _divisor_counts(divisor: Choices, scale: int) -> Choices:
+def _divisor_counts(divisor: Divisors, scale: int) -> Divisors:
     """Divisor counts in 1/scale steps: whole a..b becomes a·scale .. b·scale (as in uart.py)."""
     if scale == 1:
         return divisor
@@ -329,7 +262,7 @@ def _plain_number(value: Fraction) -> str:
 
 
 def uart_targets(
-    bauds: Sequence[Fraction], *, oversampling: int, fraction_bits: int, divisor: Choices
+    bauds: Sequence[Fraction], *, oversampling: int, fraction_bits: int, divisor: Divisors
 ) -> tuple[RateTarget, ...]:
     """UART rates: baud = source / (oversampling × divisor); 8N1 allowance from uart.py."""
     scale = 2**fraction_bits
@@ -350,7 +283,7 @@ def uart_targets(
     )
 
 
-def usb_full_speed_target(*, divisor: Choices, full_speed_only_device: bool = False) -> RateTarget:
+def usb_full_speed_target(*, divisor: Divisors, full_speed_only_device: bool = False) -> RateTarget:
     """USB full speed: 48 MHz within USB 2.0 §7.1.11's tolerance for the device (from usb.py)."""
     allowance, basis = full_speed_rule(full_speed_only_device)
     return RateTarget(
@@ -371,7 +304,7 @@ def audio_targets(
     ratio: int,
     allowance: Fraction,
     basis: str,
-    divisor: Choices,
+    divisor: Divisors,
 ) -> tuple[RateTarget, ...]:
     """Audio sampling rates: the divisor must give the master clock, ratio × fs."""
     return tuple(
@@ -390,7 +323,7 @@ def audio_targets(
 
 
 def plain_targets(
-    rates: Sequence[Fraction], *, allowance: Fraction, basis: str, divisor: Choices
+    rates: Sequence[Fraction], *, allowance: Fraction, basis: str, divisor: Divisors
 ) -> tuple[RateTarget, ...]:
     """Plain rates: the divisor gives the rate itself."""
     return tuple(
@@ -514,12 +447,12 @@ def search_crystals(
     targets = tuple(targets)
     multiple = exact_multiple(targets)
     grid = candidates if isinstance(candidates, FrequencyGrid) else None
-    frequencies = tuple(sorted(set(candidates))) if grid is None else ()
+    frequencies = () if isinstance(candidates, FrequencyGrid) else tuple(sorted(set(candidates)))
     spans_only = all(_is_span(target.counts) for target in targets)
 
     def found(
         frequency_at: Callable[[int], Fraction],
-        indices: Sequence[int],
+        indices: Sequence[int] | np.ndarray,
         exact_count: int,
         without_setting: int,
     ) -> CrystalSearch:
@@ -548,11 +481,10 @@ def search_crystals(
         exact = np.flatnonzero(_pll_exact_mask(grid, targets, pll, multiple))
         if len(exact) >= top:
             return found(frequency_at, exact[:top], len(exact), without_setting)
-    shares = None
+    filtered = None
     if len(values) > FULL_SCREEN_LIMIT:
-        shares = _filtered_pll_screen(values, scale, targets, pll, spans, top)
-    if shares is None:
-        shares = _screen(values, scale, targets, spans)
+        filtered = _filtered_pll_screen(values, scale, targets, pll, spans, top)
+    shares = _screen(values, scale, targets, spans) if filtered is None else filtered
     exact_count = int(np.count_nonzero(shares == 0))
     return found(frequency_at, _shortlist(shares, top), exact_count, without_setting)
 
@@ -566,7 +498,7 @@ def _evaluated(
     return candidate
 
 
-def _is_span(counts: Choices) -> bool:
+def _is_span(counts: Divisors) -> bool:
     return isinstance(counts, range) and counts.step == 1
 
 
@@ -704,9 +636,9 @@ def _pll_spans(values: np.ndarray, scale: int, pll: PllLimits) -> list[Span]:
                 intervals[ratio].append((math.ceil(low), math.floor(high)))
     spans = []
     for ratio in sorted(intervals):
-        for low, high in _merged(intervals[ratio]):
-            start = int(np.searchsorted(values, low, side="left"))
-            stop = int(np.searchsorted(values, high, side="right"))
+        for lowest, highest in _merged(intervals[ratio]):
+            start = int(np.searchsorted(values, lowest, side="left"))
+            stop = int(np.searchsorted(values, highest, side="right"))
             if start < stop:
                 spans.append((ratio, start, stop))
     return spans
@@ -812,7 +744,7 @@ def _most_selective(
     return best
 
 
-def _counts_between(counts: Choices, lowest: int, highest: int) -> np.ndarray:
+def _counts_between(counts: Divisors, lowest: int, highest: int) -> np.ndarray:
     """The allowed counts in [lowest, highest], ascending."""
     if _is_span(counts):
         return np.arange(max(lowest, counts[0]), min(highest, counts[-1]) + 1)
@@ -828,7 +760,8 @@ def _index_ranges(firsts: np.ndarray, lasts: np.ndarray) -> np.ndarray:
         return np.zeros(0, dtype=np.int64)
     ends = np.cumsum(lengths)
     offsets = np.repeat(firsts - (ends - lengths), lengths)
-    return np.arange(total, dtype=np.int64) + offsets
+    indices: np.ndarray = np.arange(total, dtype=np.int64) + offsets
+    return indices
 
 
 def _worst_shares(
@@ -869,13 +802,13 @@ def _rate_shares(
             table[np.clip(position - 1, 0, len(table) - 1)],
             table[np.clip(position, 0, len(table) - 1)],
         )
-    best = None
+    best: np.ndarray | None = None
     for count in nearest:
         product = count * denominator
         residual = np.abs(scaled - product)
         if residual.dtype == object:  # Python integers: convert each exactly-rounded
             residual, product = residual.astype(np.float64), product.astype(np.float64)
-        error = np.true_divide(residual, product, dtype=np.float64)
+        error: np.ndarray = np.true_divide(residual, product, dtype=np.float64)
         best = error if best is None else np.minimum(best, error, out=best)
     assert best is not None
     best *= 1 / float(target.allowance)

@@ -1,7 +1,20 @@
-"""Exact quantities: parse "11.0592 MHz", "20 ppm", "1..63", "pow2 0..9" to rationals.
+"""Exact quantities: the one grammar for numbers, units, ranges, lists and divider chains.
 
 Every value leaves this module as an ``int`` or a ``fractions.Fraction``; floats
-appear only in the ``format_*`` helpers, which are for display.
+appear only in the ``format_*`` helpers, which are for display. The scenario loader, every
+command and the quick tools read their input here, so one text means one thing everywhere:
+
+* a number is decimal, optionally with a power of ten: ``11.0592``, ``1e6``;
+* a quantity is a number and a unit from :data:`UNITS` (``"12 MHz"``, ``"18pF"``);
+* a range is two values joined by ``..`` (``"1 MHz..4 MHz"``, ``"1..63"``, ``"-20..70"``);
+* a comma always separates the items of a list: alternatives or values
+  (``"1,2,4"``, ``"9600, 115200"``);
+* a divider chain's stages are joined by ``x`` or ``×`` (``"pow2 0..9 x 1..65535"``).
+
+Unit names are read without regard to case (``khz``, ``KOHM``), except the prefix letters
+m and M, which must be written as they are: m is milli, M is mega. After a milli prefix
+the name must also be exact ("mHz", "mW"), so the common slip "mhz" is refused rather than
+read as millihertz.
 """
 
 from __future__ import annotations
@@ -15,73 +28,116 @@ from clockplan.errors import ClockplanError
 from clockplan.text_safety import describe_character, first_odd_character, quoted
 
 __all__ = [
+    "UNITS",
+    "Dimension",
     "QuantityError",
     "parse_frequency",
+    "parse_frequency_list",
+    "parse_frequency_range",
     "parse_relative",
     "parse_capacitance",
     "parse_quantity",
+    "parse_positive_quantity",
     "parse_integer_choices",
-    "parse_frequency_range",
+    "parse_stages",
+    "parse_whole",
+    "parse_cycles",
     "parse_number",
+    "split_list",
+    "split_range",
     "format_hz",
     "format_ppm",
     "format_relative",
     "exact_string",
     "parse_exact_string",
     "check_plain_text",
+    "WholeChoices",
     "parse_temperature_range",
     "RATIO_STEP",
     "ratio_up",
     "ratio_down",
 ]
 
-FREQUENCY_UNITS: dict[str, Fraction] = {
-    "mHz": Fraction(1, 1000),
-    "Hz": Fraction(1),
-    "kHz": Fraction(10**3),
-    "MHz": Fraction(10**6),
-    "GHz": Fraction(10**9),
+Dimension = Literal[
+    "frequency",
+    "relative",
+    "capacitance",
+    "resistance",
+    "transconductance",
+    "power",
+    "voltage",
+    "inductance",
+    "temperature",
+    "time",
+]
+
+_MILLI, _MICRO, _NANO = Fraction(1, 10**3), Fraction(1, 10**6), Fraction(1, 10**9)
+_PREFIXES: dict[str, Fraction] = {
+    "f": Fraction(1, 10**15),
+    "p": Fraction(1, 10**12),
+    "n": _NANO,
+    "u": _MICRO,
+    "µ": _MICRO,
+    "m": _MILLI,
+    "": Fraction(1),
+    "k": Fraction(10**3),
+    "M": Fraction(10**6),
+    "G": Fraction(10**9),
 }
-"""Frequency units and their exact factor to hertz.
+"""SI prefixes a unit may carry ("u" stands for "µ", which keyboards lack)."""
 
-Units are matched exactly, then without regard to case, except where case is the meaning:
-"mHz" (milli) and "MHz" (mega) differ only in it, so a unit that folds to "mhz" must be
-written "mHz", or start with a capital M ("MHz", "MHZ") for megahertz; "mhz" is refused.
-"""
 
-RELATIVE_UNITS: dict[str, Fraction] = {
-    "ppm": Fraction(1, 10**6),
-    "ppb": Fraction(1, 10**9),
-    "%": Fraction(1, 100),
+def _prefixed(names: Sequence[str], prefixes: Sequence[str]) -> dict[str, Fraction]:
+    """Every ``prefix + name`` with its factor, in the order the prefixes are given."""
+    return {prefix + name: _PREFIXES[prefix] for prefix in prefixes for name in names}
+
+
+UNITS: dict[Dimension, dict[str, Fraction]] = {
+    "frequency": _prefixed(["Hz"], ["m", "", "k", "M", "G"])
+    | {"k": Fraction(10**3), "M": Fraction(10**6), "G": Fraction(10**9)},
+    "relative": {"ppm": Fraction(1, 10**6), "ppb": Fraction(1, 10**9), "%": Fraction(1, 100)},
+    "capacitance": _prefixed(["F"], ["", "u", "µ", "n", "p", "f"]),
+    "resistance": _prefixed(["ohm", "ohms", "Ω"], ["", "k", "M"]),
+    "transconductance": _prefixed(["A/V", "S"], ["", "m", "u", "µ"]),
+    "power": _prefixed(["W"], ["", "m", "u", "µ", "n"]),
+    "voltage": _prefixed(["V"], ["", "m"]),
+    "inductance": _prefixed(["H"], ["", "m", "u", "µ", "n"]),
+    "temperature": {"°C": Fraction(1), "C": Fraction(1)},
+    "time": {"s": Fraction(1), "min": Fraction(60), "h": Fraction(3600)},
 }
-"""Relative units (a share of a nominal value) and their exact factor."""
+"""The one unit table: every unit each dimension accepts and its exact factor to the base
+unit (hertz, a plain ratio, farads, ohms, siemens, watts, volts, henries, °C, seconds).
+A frequency may be written with its prefix alone ("44.1k", "12M"): k, M and G stand for
+kHz, MHz and GHz."""
 
-CAPACITANCE_UNITS: dict[str, Fraction] = {
-    "F": Fraction(1),
-    "uF": Fraction(1, 10**6),
-    "µF": Fraction(1, 10**6),
-    "nF": Fraction(1, 10**9),
-    "pF": Fraction(1, 10**12),
-    "fF": Fraction(1, 10**15),
-}
-"""Capacitance units and their exact factor to farads."""
+FREQUENCY_UNITS = UNITS["frequency"]
+"""Frequency units and their exact factor to hertz (the shorthand k, M, G included)."""
 
-Dimension = Literal["frequency", "relative", "capacitance"]
-
-_UNIT_TABLES: dict[str, dict[str, Fraction]] = {
-    "frequency": FREQUENCY_UNITS,
-    "relative": RELATIVE_UNITS,
-    "capacitance": CAPACITANCE_UNITS,
+_EXAMPLES: dict[Dimension, str] = {
+    "frequency": '"12 MHz"',
+    "relative": '"20 ppm" or "0.5 %"',
+    "capacitance": '"18 pF"',
+    "resistance": '"40 ohm"',
+    "transconductance": '"10 mA/V"',
+    "power": '"100 uW"',
+    "voltage": '"1 V"',
+    "inductance": '"10 uH"',
+    "temperature": '"25 °C"',
+    "time": '"32 s"',
 }
 
 _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.][^\s]*)?\s*$", re.ASCII)
+_QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([^\d\s.+-][^\s]*)?\s*$", re.ASCII)
 _RANGE = re.compile(r"^\s*(.+?)\s*\.\.\s*(.+?)\s*$", re.ASCII)
 _POW2 = re.compile(r"^\s*pow2\s+(\d+)(?:\s*\.\.\s*(\d+))?\s*$", re.ASCII)
 _INT = re.compile(r"^\s*[+-]?\d+\s*$", re.ASCII)
-_DEGREES = r"([+-]?\d+(?:\.\d+)?)\s*(?:°C|C)?"
-_TEMPERATURES = re.compile(rf"^\s*{_DEGREES}\s*\.\.\s*{_DEGREES}\s*$", re.ASCII)
-"""A temperature range: two plain numbers, each with "°C" or "C" at most once after it."""
+_CYCLES = re.compile(r"^\s*(?:2\s*\*\*\s*(\d+)|(\d+))\s*cycles?\s*$", re.ASCII)
+_STAGE_MARK = re.compile(r"(?<!\S)[xX](?!\S)|×")
+"""What joins a divider chain's stages: an x standing alone between spaces, or a ×."""
+
+WholeChoices = range | tuple[int, ...]
+"""A whole-number setting's allowed values: a ``range`` or a sorted tuple (the scenario's
+divisor type, ``peripherals.base.Divisors``, which this module cannot import)."""
 
 MAX_CHOICES = 1_000_000
 """The most integer choices one setting may list; more is a mistake or an explosion."""
@@ -172,21 +228,21 @@ def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None 
     >>> parse_quantity("11.0592 MHz", "frequency")
     Fraction(11059200, 1)
     """
-    table = _UNIT_TABLES[dimension]
+    table = UNITS[dimension]
     if isinstance(text, (int, float)) and not isinstance(text, bool):
-        number = parse_number(text)
+        value = parse_number(text)
         if bare_unit is None:
-            raise QuantityError(f"{_short(text)} has no unit; write it like {_example(dimension)}")
-        return number * table[bare_unit]
+            raise QuantityError(f"{_short(text)} has no unit; write it like {_EXAMPLES[dimension]}")
+        return value * table[bare_unit]
     if not isinstance(text, str):
-        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_example(dimension)}")
+        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_EXAMPLES[dimension]}")
     match = _QUANTITY.match(check_plain_text(text))
     if not match:
-        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_example(dimension)}")
+        raise QuantityError(f"{_short(text)} is not a {dimension} such as {_EXAMPLES[dimension]}")
     number, unit = match.groups()
     if unit is None:
         if bare_unit is None:
-            raise QuantityError(f"{_short(text)} has no unit; write it like {_example(dimension)}")
+            raise QuantityError(f"{_short(text)} has no unit; write it like {_EXAMPLES[dimension]}")
         unit = bare_unit
     factor = _lookup_unit(unit, table)
     if factor is None:
@@ -194,14 +250,32 @@ def parse_quantity(text: object, dimension: Dimension, *, bare_unit: str | None 
     return _exact(number) * factor
 
 
+def parse_positive_quantity(text: object, dimension: Dimension) -> Fraction:
+    """Read a quantity of ``dimension`` that must be above zero (a resistance, a power)."""
+    value = parse_quantity(text, dimension)
+    if value <= 0:
+        raise QuantityError(f"{_short(text)} is not a positive {dimension}")
+    return value
+
+
 def _lookup_unit(unit: str, table: dict[str, Fraction]) -> Fraction | None:
-    """The unit's factor: exact spelling first, then any case unless case decides the unit."""
+    """The unit's factor: the exact spelling, else the one unit :func:`_same_unit` allows."""
     if unit in table:
         return table[unit]
-    if unit.lower() == "mhz" and not unit.startswith("M"):
-        return None  # "mhz": milli or mega? Only "mHz" and a capital M say.
-    folded = {name.lower(): factor for name, factor in table.items()}
-    return folded.get(unit.lower())
+    return next((factor for name, factor in table.items() if _same_unit(unit, name)), None)
+
+
+def _same_unit(written: str, name: str) -> bool:
+    """Whether ``written`` names unit ``name`` up to case, where case does not decide.
+
+    The prefix letters m (milli) and M (mega) keep their case, and after a milli prefix the
+    rest keeps its own too: "MHZ" is megahertz, "mhz" is neither (milli or mega?).
+    """
+    if written.lower() != name.lower():
+        return False
+    if written[0] in "mM" or name[0] in "mM":
+        return written[0] == name[0] and (written[0] != "m" or written == name)
+    return True
 
 
 def _unknown_unit(text: str, unit: str, table: dict[str, Fraction]) -> str:
@@ -216,16 +290,10 @@ def _unknown_unit(text: str, unit: str, table: dict[str, Fraction]) -> str:
     return f"{start}; expected one of {known}"
 
 
-def _example(dimension: Dimension) -> str:
-    return {"frequency": '"12 MHz"', "relative": '"20 ppm" or "0.5 %"', "capacitance": '"18 pF"'}[
-        dimension
-    ]
-
-
 def parse_frequency(text: object, *, bare_unit: str | None = None) -> Fraction:
     """Read a frequency with its unit, in hertz, between 1 mHz and 1 THz.
 
-    ``bare_unit`` names the unit a plain number is taken in (a bit rate's "Hz").
+    ``bare_unit`` names the unit a plain number is taken in (a rate's or a baud's "Hz").
     """
     value = parse_quantity(text, "frequency", bare_unit=bare_unit)
     if value <= 0:
@@ -235,6 +303,47 @@ def parse_frequency(text: object, *, bare_unit: str | None = None) -> Fraction:
             f"{_short(text)} is implausible; expected a frequency between 1 mHz and 1 THz"
         )
     return value
+
+
+def split_list(text: str, what: str) -> list[str]:
+    """The comma-separated items of ``text``, stripped; refuses an empty list or item."""
+    items = [item.strip() for item in check_plain_text(text).split(",")]
+    if not any(items):
+        raise QuantityError(f"{_short(text)} is an empty list; give at least one {what}")
+    if not all(items):
+        raise QuantityError(f"{_short(text)} has an empty item; separate items with one comma")
+    return items
+
+
+def split_range(text: object, example: str) -> tuple[str, str]:
+    """The two ends of ``"low..high"``, stripped; ``example`` shows the form in the error.
+
+    Exactly two dots join the ends: "-20...70" is refused, not read as -20 to 0.70.
+    """
+    if not isinstance(text, str):
+        raise QuantityError(f"{_short(text)} is not a range such as {example}")
+    ends = check_plain_text(text).split("..")
+    if len(ends) != 2 or "..." in text or not all(end.strip() for end in ends):
+        raise QuantityError(f"{_short(text)} is not a range such as {example}")
+    return ends[0].strip(), ends[1].strip()
+
+
+def parse_frequency_list(text: str, *, bare_unit: str | None = None) -> tuple[Fraction, ...]:
+    """Read comma-separated frequencies, "9600,115200" or "48k, 44.1k"; repeats are dropped."""
+    items = split_list(text, "frequency")
+    return tuple(dict.fromkeys(parse_frequency(item, bare_unit=bare_unit) for item in items))
+
+
+def parse_frequency_range(
+    text: object, *, bare_unit: str | None = None
+) -> tuple[Fraction, Fraction]:
+    """Read ``"1 MHz .. 2 MHz"`` (or ``"1M..2M"``) to ``(low, high)`` in hertz, low <= high."""
+    low_text, high_text = split_range(text, '"1 MHz .. 2 MHz"')
+    low = parse_frequency(low_text, bare_unit=bare_unit)
+    high = parse_frequency(high_text, bare_unit=bare_unit)
+    if low > high:
+        raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
+    return low, high
 
 
 def parse_relative(text: object) -> Fraction:
@@ -267,24 +376,14 @@ def parse_capacitance(text: object) -> Fraction:
     return value
 
 
-def parse_frequency_range(text: object) -> tuple[Fraction, Fraction]:
-    """Read ``"1 MHz .. 2 MHz"`` to ``(low, high)`` in hertz, low <= high."""
-    if not isinstance(text, str) or not _RANGE.match(check_plain_text(text)):
-        raise QuantityError(f'{_short(text)} is not a frequency range such as "1 MHz .. 2 MHz"')
-    low_text, high_text = _RANGE.match(text).groups()  # type: ignore[union-attr]
-    low, high = parse_frequency(low_text), parse_frequency(high_text)
-    if low > high:
-        raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
-    return low, high
-
-
-def parse_integer_choices(value: object, *, minimum: int = 1) -> range | tuple[int, ...]:
+def parse_integer_choices(value: object, *, minimum: int = 1) -> WholeChoices:
     """Read an integer setting's allowed values, sorted and without repeats.
 
     A span ``"a..b"`` stays a ``range`` (compact, exact); anything else is a tuple.
 
     Accepts an integer, a list of integers, ``"a..b"`` or ``"pow2 a..b"``
-    (2**a … 2**b) or ``"pow2 n"`` (exactly 2**n).
+    (2**a … 2**b) or ``"pow2 n"`` (exactly 2**n), or a text listing several of them
+    separated by commas (``"1,2,4"``, ``"pow2 0..3, 12"``: their union).
 
     >>> parse_integer_choices("pow2 0..3")
     (1, 2, 4, 8)
@@ -314,7 +413,20 @@ def parse_integer_choices(value: object, *, minimum: int = 1) -> range | tuple[i
 
 
 def _parse_integer_text(text: str) -> Sequence[int]:
-    check_plain_text(text)
+    """A whole number, "a..b", "pow2 n", "pow2 a..b", or a comma list of them (their union)."""
+    if "|" in check_plain_text(text):
+        raise QuantityError(f"{_short(text)} uses a bar; separate alternatives with commas")
+    if "," not in text:
+        return _parse_integer_item(text)
+    union: set[int] = set()
+    for item in split_list(text, "whole number"):
+        union.update(_parse_integer_item(item))
+        if len(union) > MAX_CHOICES:
+            raise QuantityError(f"{_short(text)} allows more than {MAX_CHOICES} values")
+    return sorted(union)
+
+
+def _parse_integer_item(text: str) -> Sequence[int]:
     if len(text) > MAX_NUMBER_DIGITS:
         raise QuantityError(f'{_short(text)} is too long for a whole number, "a..b" or "pow2 a..b"')
     pow2 = _POW2.match(text)
@@ -338,20 +450,64 @@ def _parse_integer_text(text: str) -> Sequence[int]:
         return range(low, high + 1)
     if _INT.match(text):
         return [int(text)]
-    raise QuantityError(f'{_short(text)} is not a whole number, "a..b" or "pow2 a..b"')
+    raise QuantityError(f'{_short(text)} is not a whole number, "a..b", "pow2 a..b" or a list')
+
+
+def parse_stages(text: str) -> tuple[tuple[str, WholeChoices], ...]:
+    """Read a divider chain: stages joined by ``x`` or ``×``, each as its text and choices.
+
+    A stage is anything :func:`parse_integer_choices` reads as text ("pow2 15", "1..128",
+    "1,8,64"): ``"pow2 0..9 x 1..65535"`` is two stages, ``"128,256"`` one stage with a
+    choice of two divisors.
+    """
+    stages = [stage.strip() for stage in _STAGE_MARK.split(check_plain_text(text))]
+    if not text.strip() or not all(stages):
+        raise QuantityError(f'{_short(text)} has an empty stage; join stages with " x "')
+    return tuple((stage, parse_integer_choices(stage)) for stage in stages)
+
+
+def parse_whole(text: str, *, minimum: int, maximum: int) -> int:
+    """Read a whole number from ``minimum`` to ``maximum`` written with the digits 0-9."""
+    digits = check_plain_text(text).strip()
+    if not (digits.isascii() and digits.isdigit()) or len(digits) > MAX_NUMBER_DIGITS:
+        raise QuantityError(f"{_short(text)} is not a whole number from {minimum} to {maximum}")
+    value = int(digits)
+    if value < minimum:
+        raise QuantityError(f"{_short(text)} is less than {minimum}")
+    if value > maximum:
+        raise QuantityError(f"{_short(text)} is more than {maximum}")
+    return value
+
+
+def parse_cycles(text: str, *, limit: int) -> int | None:
+    """Read a count of cycles, ``"1048576 cycles"`` or ``"2**20 cycles"``; None when the text
+    is not written in cycles (it may be a duration). A count above ``limit`` comes back as
+    ``limit + 1``, so the caller refuses it in its own words without building a huge number."""
+    match = _CYCLES.match(check_plain_text(text))
+    if match is None:
+        return None
+    power, plain = match.groups()
+    if power is not None:
+        exponent = power.lstrip("0") or "0"
+        too_long = (
+            len(exponent) > len(str(limit.bit_length())) or int(exponent) >= limit.bit_length()
+        )
+        return limit + 1 if too_long else min(2 ** int(exponent), limit + 1)
+    digits = plain.lstrip("0") or "0"
+    return limit + 1 if len(digits) > len(str(limit)) else min(int(digits), limit + 1)
 
 
 def parse_temperature_range(text: object) -> tuple[Fraction, Fraction]:
     """Read ``"-20..70"`` or ``"-20 °C .. 70 °C"`` to (low, high) in °C, low <= high.
 
-    A Unicode minus sign (−) reads as "-"; anything else past the grammar is refused.
+    A Unicode minus sign (−) reads as "-"; a plain number is in °C.
     """
+    example = '"-20..70"'
     if not isinstance(text, str):
-        raise QuantityError(f'{_short(text)} is not a range in °C such as "-20..70"')
-    match = _TEMPERATURES.match(check_plain_text(text).replace("\u2212", "-"))
-    if match is None:
-        raise QuantityError(f'{_short(text)} is not a range in °C such as "-20..70"')
-    low, high = _exact(match.group(1)), _exact(match.group(2))
+        raise QuantityError(f"{_short(text)} is not a range in °C such as {example}")
+    low_text, high_text = split_range(check_plain_text(text).replace("\u2212", "-"), example)
+    low = parse_quantity(low_text, "temperature", bare_unit="°C")
+    high = parse_quantity(high_text, "temperature", bare_unit="°C")
     if low > high:
         raise QuantityError(f"{_short(text)} runs backwards; write the low end first")
     if low < -273 or high > 1000:

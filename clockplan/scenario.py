@@ -12,15 +12,16 @@ import os
 import re
 import stat
 import tomllib
+from collections.abc import Callable
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import cached_property
 from importlib import resources
 from pathlib import Path
+from typing import TypeVar
 
 from clockplan._fields import Fields, hint
 from clockplan.catalog import catalog_frequencies
-from clockplan.circuits import parse_circuit_quantity
 from clockplan.errors import ArgumentTypeError, ScenarioError
 from clockplan.peripherals import Peripheral, read_peripheral
 from clockplan.peripherals.base import Divisors, largest
@@ -32,9 +33,11 @@ from clockplan.quantities import (
     format_hz,
     parse_capacitance,
     parse_frequency,
+    parse_frequency_list,
     parse_frequency_range,
     parse_integer_choices,
     parse_number,
+    parse_positive_quantity,
     parse_quantity,
     parse_relative,
     parse_temperature_range,
@@ -54,6 +57,9 @@ from clockplan.sources import (
 )
 from clockplan.text_safety import quoted
 from clockplan.topology import check_structure
+
+Item = TypeVar("Item")
+"""One entry of a scenario section: a source, a PLL, a divider, a mux or a peripheral."""
 
 __all__ = [
     "Pll",
@@ -362,14 +368,16 @@ def _ranking(value: object) -> tuple[str, ...]:
     return (*goals, *(goal for goal in RANKING_GOALS if goal not in goals))
 
 
-def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-def]
+def _read_section(
+    top: Fields, section: str, read: Callable[[Fields, str], Item]
+) -> tuple[Item, ...]:
     if not top.has(section):
         top.take(section, dict, {})
         return ()
     table = top.sub(section)
     if len(table.table) > MAX_ITEMS:
         raise top.error(section, f"holds {len(table.table)} entries; at most {MAX_ITEMS}")
-    items = []
+    items: list[Item] = []
     for name in table.table:
         if not _NAME.fullmatch(name):
             raise table.error(
@@ -550,14 +558,14 @@ def _part_tolerance(value: object) -> Fraction:
 
 
 def _resistance(value: object) -> Fraction:
-    resistance = parse_circuit_quantity(value, "resistance")  # type: ignore[arg-type]
+    resistance = parse_positive_quantity(value, "resistance")
     if resistance > 10**12:
         raise QuantityError(f"{value!r} is not a plausible resistance")
     return resistance
 
 
 def _inductance(value: object) -> Fraction:
-    inductance = parse_circuit_quantity(value, "inductance")  # type: ignore[arg-type]
+    inductance = parse_positive_quantity(value, "inductance")
     if inductance > 10**3:
         raise QuantityError(f"{value!r} is not a plausible inductance")
     return inductance
@@ -571,7 +579,7 @@ def _candidates(value: object) -> tuple[Fraction, ...]:
             raise QuantityError("an empty list offers no frequency; give at least one")
         return tuple(dict.fromkeys(parse_frequency(item) for item in value))
     if isinstance(value, str):
-        return (parse_frequency(value),)
+        return parse_frequency_list(value)
     raise QuantityError('expected "catalog", a list of frequencies or { from, to, step }')
 
 

@@ -18,7 +18,8 @@ from typing import Literal
 
 import numpy as np
 
-from clockplan.quantities import QuantityError, parse_integer_choices
+from clockplan.peripherals.base import Divisors, largest
+from clockplan.quantities import QuantityError, parse_stages
 from clockplan.sources import (
     TUNING_FORK_COEFFICIENT_PPM,
     TUNING_FORK_TURNOVER_C,
@@ -74,7 +75,7 @@ class Stage:
 
     text: str
     """The stage as written, e.g. ``"pow2 15"`` or ``"1..128"``."""
-    choices: tuple[int, ...]
+    choices: Divisors
     """Allowed divisors, ascending, without repeats."""
 
     @property
@@ -98,36 +99,24 @@ class Chain:
     @property
     def largest_division(self) -> int:
         """Product of every stage's largest divisor."""
-        return math.prod(stage.choices[-1] for stage in self.stages)
+        return math.prod(largest(stage.choices) for stage in self.stages)
 
     @property
     def text(self) -> str:
-        """The chain as written on the command line."""
-        return ", ".join(stage.text for stage in self.stages)
+        """The chain as it is written on the command line."""
+        return " x ".join(stage.text for stage in self.stages)
 
 
 def parse_chain(text: str) -> Chain:
-    """Read stages separated by commas: ``"pow2 15"``, ``"1..128, 1..32768"``, ``"128, 256"``.
+    """Read stages joined by ``x`` or ``×``: ``"pow2 15"``, ``"1..128 x 1..32768"``.
 
     A stage is a whole number, ``"a..b"``, ``"pow2 n"``, ``"pow2 a..b"`` or a choice of
-    whole numbers separated by ``|`` (``"1|8|64|256|1024"``).
+    them separated by commas (``"1,8,64,256,1024"``), as everywhere in clockplan.
     """
-    parts = [part.strip() for part in text.split(",")]
-    if not text.strip() or any(not part for part in parts):
-        raise QuantityError(f"{text!r} has an empty stage; separate stages with single commas")
-    chain = Chain(tuple(_parse_stage(part) for part in parts))
+    chain = Chain(tuple(Stage(stage, choices) for stage, choices in parse_stages(text)))
     if chain.largest_division > MAX_DIVISION:
         raise QuantityError(f"{text!r} divides by more than 2**62; no counter is that long")
     return chain
-
-
-def _parse_stage(text: str) -> Stage:
-    if "|" in text:
-        values = [choice.strip() for choice in text.split("|")]
-        if not all(value.isdigit() for value in values):
-            raise QuantityError(f"{text!r} must list whole numbers between the bars")
-        return Stage(text, parse_integer_choices([int(value) for value in values]))
-    return Stage(text, parse_integer_choices(text))
 
 
 def suggest_chain(source_hz: Fraction, rate_hz: Fraction) -> Chain:
@@ -244,7 +233,7 @@ def _setting(
 def _dividing(stage: np.ndarray, remaining: int) -> list[int]:
     """The divisors of ``stage`` that divide ``remaining`` exactly."""
     candidates = stage[stage <= remaining]
-    return candidates[remaining % candidates == 0].tolist()
+    return [int(value) for value in candidates[remaining % candidates == 0]]
 
 
 def _holds(stage: np.ndarray, value: int) -> bool:

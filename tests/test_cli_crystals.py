@@ -209,8 +209,8 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
     [
         (["--baud", "9600", "--candidates", "12 MHz,8 furlongs"], "--candidates: '8 furlongs'"),
         (["--fs", "48q"], "--fs: '48q' has unit 'q'"),
-        (["--rate", "0"], "--rate: '0' is not a positive rate"),
-        (["--baud=-9600"], "--baud: '-9600' is not a positive rate"),
+        (["--rate", "0"], "--rate: '0' is not a positive frequency"),
+        (["--baud=-9600"], "--baud: '-9600' is not a positive frequency"),
         (["--baud", "9600", "--range", "50 MHz..1 MHz"], "--range: '50 MHz..1 MHz' runs backwards"),
         (["--baud", "9600", "--range", "1 MHz..2 MHz", "--step", "5 MHz"], "--step: a step of"),
         (["--baud", ","], "--baud: ',' is an empty list"),
@@ -221,7 +221,7 @@ def test_help_lists_the_options(capsys: pytest.CaptureFixture[str]) -> None:
         (["--fs", "48k", "--allowance", "0 ppm"], "--allowance: '0 ppm' allows nothing"),
         (["--baud", "9600", "--divisor", "0..10"], "--divisor: 0 is below"),
         (["--baud", "9600", "--pll", "--vco", "96 MHz"], "--vco: '96 MHz' is not a range"),
-        (["--baud", "9600", "--top", "0"], "--top: '0' is not a whole number from 1"),
+        (["--baud", "9600", "--top", "0"], "--top: '0' is less than 1"),
         (["--baud", "9600", "--full-speed-only-device"], "--full-speed-only-device: says"),
     ],
 )

@@ -158,7 +158,7 @@ def test_tick_watch_crystal_is_exact(capsys: pytest.CaptureFixture[str]) -> None
 def test_tick_json_lists_exact_prescaler_settings(capsys: pytest.CaptureFixture[str]) -> None:
     # arithmetic: 8 MHz = 125 × 64000 = 128 × 62500 within 1..128 and 1..65536.
     _, out, _ = run_cli(
-        capsys, "tick", "--source", "8 MHz", "--chain", "1..128, 1..65536", "--json"
+        capsys, "tick", "--source", "8 MHz", "--chain", "1..128 x 1..65536", "--json"
     )
     report = json.loads(out)
     assert report["exact"] is True and report["exact_settings"] == 2
@@ -174,7 +174,7 @@ def test_tick_40_khz_through_binary_stages_says_not_exact(
     flat = " ".join(out.split())
     assert status == 0
     assert "not exact" in flat and "625/512 Hz" in flat
-    assert '"pow2 6, 625" would' in flat
+    assert '"pow2 6 x 625" would' in flat
 
 
 def test_tick_without_chain_suggests_an_exact_one(capsys: pytest.CaptureFixture[str]) -> None:
@@ -363,3 +363,53 @@ def test_subprocess_bad_input_is_one_line_without_traceback() -> None:
     )
     assert result.returncode == 2 and result.stdout == ""
     assert result.stderr.count("\n") == 1 and "Traceback" not in result.stderr
+
+
+@pytest.mark.parametrize(
+    ("argv", "line"),
+    [
+        (
+            ["tick", "--source", "8 MHz", "--chain", "1|8|64 x 1..65535"],
+            "clockplan: --chain: '1|8|64' uses a bar; separate alternatives with commas\n",
+        ),
+        (
+            ["tick", "--source", "8 MHz", "--chain", "128 x x 256"],
+            "clockplan: --chain: '128 x x 256' has an empty stage; join stages with \" x \"\n",
+        ),
+        (
+            ["crystals", "--baud", "9600", "--divisor", "1|2|4"],
+            "clockplan: --divisor: '1|2|4' uses a bar; separate alternatives with commas\n",
+        ),
+        (
+            ["pierce", "--frequency", "16 MHz", "--load", "12 pF", "--esr", "40 mohm"],
+            "clockplan: --esr: '40 mohm' has unit 'mohm'; expected one of ohm, ohms, Ω, "
+            "kohm, kohms, kΩ, Mohm, Mohms, MΩ\n",
+        ),
+    ],
+)
+def test_one_grammar_refuses_with_one_located_line(
+    argv: list[str], line: str, capsys: pytest.CaptureFixture[str]
+) -> None:
+    status, out, err = run_cli(capsys, *argv)
+    assert (status, out, err) == (2, "", line)
+
+
+def test_a_comma_gives_a_stage_its_alternatives_and_x_joins_stages(
+    capsys: pytest.CaptureFixture[str],
+) -> None:
+    # arithmetic: 8 MHz = 256 × 31250; 1024 leaves 7812.5 and 64 leaves 125000 > 65535.
+    argv = ["tick", "--source", "8 MHz", "--chain", "1,8,64,256,1024 x 1..65535", "--json"]
+    _, out, _ = run_cli(capsys, *argv)
+    report = json.loads(out)
+    assert report["chain"] == ["1,8,64,256,1024", "1..65535"]
+    assert [setting["divisors"] for setting in report["settings"]] == [[256, 31250]]
+    _, out, _ = run_cli(capsys, "tick", "--source", "1024 Hz", "--chain", "512,1024", "--json")
+    report = json.loads(out)
+    assert report["chain"] == ["512,1024"] and report["setting_count"] == 2
+    assert [setting["divisors"] for setting in report["settings"]] == [[1024]]
+
+
+def test_crystals_divisor_list_is_the_scenario_list(capsys: pytest.CaptureFixture[str]) -> None:
+    argv = ["crystals", "--baud", "9600", "--divisor", "1,2,4", "--candidates", "1 MHz", "--json"]
+    _, out, _ = run_cli(capsys, *argv)
+    assert json.loads(out)["structure"]["divisor"] == "1,2,4"

@@ -19,15 +19,18 @@ from clockplan.crystals import (
     evaluate,
     exact_multiple,
     frequency_grid,
-    parse_rate,
-    parse_rate_list,
-    parse_rate_range,
     plain_targets,
     search_crystals,
     uart_targets,
     usb_full_speed_target,
 )
-from clockplan.quantities import QuantityError
+from clockplan.peripherals.base import Divisors
+from clockplan.quantities import (
+    QuantityError,
+    parse_frequency,
+    parse_frequency_list,
+    parse_frequency_range,
+)
 
 MHZ = 10**6
 WHOLE = range(1, 65536)
@@ -40,13 +43,13 @@ DEFAULT_PLL = PllLimits(
 )
 
 
-def uart(*bauds: int, divisor: crystals.Choices = WHOLE, bits: int = 0) -> tuple[RateTarget, ...]:
+def uart(*bauds: int, divisor: Divisors = WHOLE, bits: int = 0) -> tuple[RateTarget, ...]:
     return uart_targets(
         [Fraction(b) for b in bauds], oversampling=16, fraction_bits=bits, divisor=divisor
     )
 
 
-def audio(*rates: int, divisor: crystals.Choices = WHOLE) -> tuple[RateTarget, ...]:
+def audio(*rates: int, divisor: Divisors = WHOLE) -> tuple[RateTarget, ...]:
     return audio_targets(
         [Fraction(r) for r in rates],
         ratio=256,
@@ -56,7 +59,7 @@ def audio(*rates: int, divisor: crystals.Choices = WHOLE) -> tuple[RateTarget, .
     )
 
 
-def plain(*rates: Fraction, divisor: crystals.Choices = WHOLE) -> tuple[RateTarget, ...]:
+def plain(*rates: Fraction, divisor: Divisors = WHOLE) -> tuple[RateTarget, ...]:
     return plain_targets(rates, allowance=Fraction(1, 1000), basis="test", divisor=divisor)
 
 
@@ -347,7 +350,7 @@ def test_candidates_too_fine_for_int64_are_still_ranked_exactly() -> None:
     ],
 )
 def test_rate_shorthand(text: str, hertz: int) -> None:
-    assert parse_rate(text) == hertz
+    assert parse_frequency(text, bare_unit="Hz") == hertz
 
 
 @pytest.mark.parametrize(
@@ -355,24 +358,24 @@ def test_rate_shorthand(text: str, hertz: int) -> None:
     [
         ("48m", "has unit 'm'"),
         ("48 mhz", 'write "MHz" for megahertz or "mHz" for millihertz'),
-        ("0", "not a positive rate"),
-        ("-9600", "not a positive rate"),
-        ("fast", "not a rate"),
+        ("0", "not a positive frequency"),
+        ("-9600", "not a positive frequency"),
+        ("fast", "not a frequency"),
     ],
 )
 def test_bad_rates_are_refused(text: str, problem: str) -> None:
     with pytest.raises(QuantityError, match=problem):
-        parse_rate(text)
+        parse_frequency(text, bare_unit="Hz")
 
 
 def test_rate_lists_and_ranges() -> None:
-    assert parse_rate_list("48k, 44.1k,48000") == (48_000, 44_100)
-    assert parse_rate_range("1M..50 MHz") == (MHZ, 50 * MHZ)
+    assert parse_frequency_list("48k, 44.1k,48000", bare_unit="Hz") == (48_000, 44_100)
+    assert parse_frequency_range("1M..50 MHz") == (MHZ, 50 * MHZ)
     for text in ("", " , "):
         with pytest.raises(QuantityError, match="empty list"):
-            parse_rate_list(text)
+            parse_frequency_list(text, bare_unit="Hz")
     with pytest.raises(QuantityError, match="runs backwards"):
-        parse_rate_range("50 MHz..1 MHz")
+        parse_frequency_range("50 MHz..1 MHz")
 
 
 @pytest.mark.parametrize(

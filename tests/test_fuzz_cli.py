@@ -128,7 +128,15 @@ OPTIONS: dict[str, dict[str, st.SearchStrategy[str] | None]] = {
     },
     "tick": {
         "--source": values("32.768 kHz", "12 MHz", "1 mHz"),
-        "--chain": values("pow2 15", "128, 256", "1..128, 1..32768", "1..1000000, 1..1000000"),
+        "--chain": values(
+            "pow2 15",
+            "128 x 256",
+            "128, 256",
+            "1..128 × 1..32768",
+            "1..1000000 x 1..1000000",
+            "1|8",
+            "x",
+        ),
         "--rate": values("1 Hz", "1 kHz"),
         "--list": values("1", "10", "999999999999999999"),
         "--curve": values("tuning-fork", "sine"),

@@ -4,15 +4,21 @@ from fractions import Fraction
 import pytest
 
 from clockplan.quantities import (
+    UNITS,
     QuantityError,
     exact_string,
     format_hz,
+    parse_cycles,
     parse_exact_string,
     parse_frequency,
+    parse_frequency_list,
     parse_frequency_range,
     parse_integer_choices,
     parse_quantity,
     parse_relative,
+    parse_stages,
+    parse_temperature_range,
+    parse_whole,
 )
 
 
@@ -166,3 +172,116 @@ def test_format_hz_picks_a_readable_unit():
     assert format_hz(11_059_200) == "11.0592 MHz"
     assert format_hz(32_768) == "32.768 kHz"
     assert format_hz(1) == "1 Hz"
+
+
+@pytest.mark.parametrize(
+    ("text", "dimension", "value"),
+    [
+        ("12 MHZ", "frequency", Fraction(12_000_000)),
+        ("12 Mhz", "frequency", Fraction(12_000_000)),
+        ("5 mHz", "frequency", Fraction(5, 1000)),
+        ("48 KHZ", "frequency", Fraction(48_000)),
+        ("44.1k", "frequency", Fraction(44_100)),
+        ("12M", "frequency", Fraction(12_000_000)),
+        ("18 PF", "capacitance", Fraction(18, 10**12)),
+        ("4.7 KOHM", "resistance", Fraction(4_700)),
+        ("1.5 Mohms", "resistance", Fraction(1_500_000)),
+        ("17 mS", "transconductance", Fraction(17, 1000)),
+        ("100 UW", "power", Fraction(1, 10**4)),
+        ("20 PPM", "relative", Fraction(20, 10**6)),
+        ("2 min", "time", Fraction(120)),
+        ("25 °C", "temperature", Fraction(25)),
+    ],
+)
+def test_one_unit_table_with_one_case_rule(text, dimension, value):
+    assert parse_quantity(text, dimension) == value
+
+
+@pytest.mark.parametrize(
+    ("text", "dimension", "message"),
+    [
+        ("12 mhz", "frequency", 'write "MHz" for megahertz or "mHz" for millihertz'),
+        ("12 mHZ", "frequency", 'write "MHz" for megahertz or "mHz" for millihertz'),
+        ("4 mohm", "resistance", "has unit 'mohm'"),
+        ("1 MW", "power", "has unit 'MW'"),
+        ("1 MV", "voltage", "has unit 'MV'"),
+        ("10 mA/v", "transconductance", "has unit 'mA/v'"),
+        ("2 MIN", "time", "has unit 'MIN'"),
+    ],
+)
+def test_the_prefixes_m_and_m_keep_their_case(text, dimension, message):
+    with pytest.raises(QuantityError, match=re.escape(message)):
+        parse_quantity(text, dimension)
+
+
+def test_no_two_units_of_a_dimension_differ_only_where_case_is_folded():
+    for dimension, table in UNITS.items():
+        folded = [name.lower() for name in table if name[0] not in "mM"]
+        assert len(folded) == len(set(folded)), dimension
+
+
+def test_a_comma_separates_the_items_of_every_list():
+    assert parse_integer_choices("1,2,4") == (1, 2, 4)
+    assert parse_integer_choices("pow2 0..2, 10..12, 3") == (1, 2, 3, 4, 10, 11, 12)
+    assert parse_frequency_list("8 MHz, 12 MHz,8MHz") == (8_000_000, 12_000_000)
+    for text in ("1,,2", "1, ", ","):
+        with pytest.raises(QuantityError, match="empty"):
+            parse_integer_choices(text)
+
+
+def test_a_bar_is_no_separator_and_says_so():
+    with pytest.raises(QuantityError, match="uses a bar; separate alternatives with commas"):
+        parse_integer_choices("1|8|64")
+
+
+@pytest.mark.parametrize(
+    ("text", "stages"),
+    [
+        ("pow2 15", [("pow2 15", (2**15,))]),
+        ("128 x 256", [("128", (128,)), ("256", (256,))]),
+        ("1,8,64 × 1..3", [("1,8,64", (1, 8, 64)), ("1..3", range(1, 4))]),
+        ("1..2 X pow2 1", [("1..2", range(1, 3)), ("pow2 1", (2,))]),
+        ("128,256", [("128,256", (128, 256))]),
+    ],
+)
+def test_chain_stages_are_joined_by_x(text, stages):
+    assert list(parse_stages(text)) == stages
+
+
+@pytest.mark.parametrize("text", ["", "x 5", "5 x", "1..2 x  x 3", "5 ×"])
+def test_a_chain_refuses_an_empty_stage(text):
+    with pytest.raises(QuantityError, match="empty stage"):
+        parse_stages(text)
+
+
+@pytest.mark.parametrize(
+    ("text", "message"),
+    [("x", "not a whole number"), ("0", "less than 1"), ("1001", "more than 1000"), ("1.5", "not")],
+)
+def test_whole_numbers_for_options(text, message):
+    assert parse_whole(" 12 ", minimum=1, maximum=1000) == 12
+    with pytest.raises(QuantityError, match=message):
+        parse_whole(text, minimum=1, maximum=1000)
+
+
+@pytest.mark.parametrize(
+    ("text", "cycles"),
+    [
+        ("2**20 cycles", 2**20),
+        ("1048576 cycles", 2**20),
+        ("1 cycle", 1),
+        ("2**63 cycles", 2**62 + 1),
+        ("2**99999999999999999999 cycles", 2**62 + 1),
+        ("9" * 30 + " cycles", 2**62 + 1),
+        ("32 s", None),
+    ],
+)
+def test_cycle_counts_saturate_past_the_limit(text, cycles):
+    assert parse_cycles(text, limit=2**62) == cycles
+
+
+def test_temperature_ranges_share_the_range_grammar():
+    assert parse_temperature_range("-20..70") == (-20, 70)
+    assert parse_temperature_range("\u221240 °C .. 85 C") == (-40, 85)
+    with pytest.raises(QuantityError, match="has unit 'CC'"):
+        parse_temperature_range("-20CC..70")

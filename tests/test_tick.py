@@ -180,7 +180,7 @@ def test_backwards_temperature_range_is_refused() -> None:
 def test_8_mhz_through_two_prescalers_has_exact_settings() -> None:
     # arithmetic: 8 000 000 = 2**9 · 5**6; the first stage must be a divisor of 8e6 in
     # 8e6/65536 = 122.07 .. 128, i.e. 125 or 128, so exactly two settings.
-    search = search_chain(Fraction(8 * 10**6), Fraction(1), parse_chain("1..128, 1..65536"))
+    search = search_chain(Fraction(8 * 10**6), Fraction(1), parse_chain("1..128 x 1..65536"))
     assert search.exact_count == 2
     assert [setting.divisors for setting in search.settings] == [(125, 64000), (128, 62500)]
 
@@ -188,7 +188,7 @@ def test_8_mhz_through_two_prescalers_has_exact_settings() -> None:
 def test_1_mhz_with_a_binary_prescaler_and_a_counter() -> None:
     # arithmetic: 1e6 = 2**6 · 5**6; the binary stage must divide 2**6 and leave ≤ 65536,
     # so 16, 32 or 64.
-    search = search_chain(Fraction(10**6), Fraction(1), parse_chain("pow2 0..10, 1..65536"))
+    search = search_chain(Fraction(10**6), Fraction(1), parse_chain("pow2 0..10 x 1..65536"))
     assert [setting.divisors for setting in search.settings] == [
         (16, 62500),
         (32, 31250),
@@ -196,7 +196,7 @@ def test_1_mhz_with_a_binary_prescaler_and_a_counter() -> None:
     ]
 
 
-@pytest.mark.parametrize("chain", ["pow2 15", "pow2 0..20", "pow2 10, pow2 0..8"])
+@pytest.mark.parametrize("chain", ["pow2 15", "pow2 0..20", "pow2 10 x pow2 0..8"])
 def test_40_khz_cannot_reach_1_hz_through_binary_stages(chain: str) -> None:
     # arithmetic: 40 000 = 2**6 · 5**4 is not a power of two; the closest binary division is
     # 2**15, giving 40000/32768 = 625/512 Hz (+22 %).
@@ -208,7 +208,9 @@ def test_40_khz_cannot_reach_1_hz_through_binary_stages(chain: str) -> None:
 def test_40_khz_reaches_1_hz_through_programmable_prescalers() -> None:
     # arithmetic: the divisors of 40 000 from 2 to 128 (the second stage holds at most 32768):
     # 2, 4, 5, 8, 10, 16, 20, 25, 32, 40, 50, 64, 80, 100, 125 — fifteen exact settings.
-    search = search_chain(Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=20)
+    search = search_chain(
+        Fraction(40_000), Fraction(1), parse_chain("1..128 x 1..32768"), listed=20
+    )
     assert search.exact_count == 15
     assert [s.divisors[0] for s in search.settings] == [
         2,
@@ -231,16 +233,16 @@ def test_40_khz_reaches_1_hz_through_programmable_prescalers() -> None:
 
 
 def test_listing_is_capped_but_the_count_is_complete() -> None:
-    search = search_chain(Fraction(40_000), Fraction(1), parse_chain("1..128, 1..32768"), listed=3)
+    search = search_chain(Fraction(40_000), Fraction(1), parse_chain("1..128 x 1..32768"), listed=3)
     assert len(search.settings) == 3 and search.exact_count == 15
 
 
 @pytest.mark.parametrize(
     ("source", "chain"),
     [
-        (40_000, "pow2 6, 625"),
-        (10**6, "pow2 6, 15625"),
-        (8 * 10**6, "pow2 9, 15625"),
+        (40_000, "pow2 6 x 625"),
+        (10**6, "pow2 6 x 15625"),
+        (8 * 10**6, "pow2 9 x 15625"),
         (32_768, "pow2 15"),
         (15_625, "15625"),
     ],
@@ -268,11 +270,12 @@ def test_chain_that_cannot_reach_the_tick_is_refused() -> None:
     ("text", "problem"),
     [
         ("", "empty stage"),
-        ("128,,256", "empty stage"),
+        ("128,,256", "empty item"),
+        ("128 x  x 256", "empty stage"),
         ("0..5", "below the smallest"),
         ("pow2 70", "2\\*\\*62"),
-        ("pow2 40, pow2 40", "more than 2\\*\\*62"),
-        ("1|x|8", "whole numbers"),
+        ("pow2 40 x pow2 40", "more than 2\\*\\*62"),
+        ("1|8|64", "uses a bar; separate alternatives with commas"),
         ("fast", "not a whole number"),
     ],
 )
@@ -282,7 +285,7 @@ def test_bad_chains_are_refused(text: str, problem: str) -> None:
 
 
 def test_stage_with_a_choice_of_divisors() -> None:
-    chain = parse_chain("1|8|64|256|1024, 1..65535")
+    chain = parse_chain("1,8,64,256,1024 x 1..65535")
     assert chain.stages[0].choices == (1, 8, 64, 256, 1024)
     search = search_chain(Fraction(8 * 10**6), Fraction(1), chain)
     # arithmetic: only 256 × 31250 fits (1024 leaves 7812.5; 64 leaves 125000 > 65535).
@@ -309,7 +312,7 @@ def _brute_force(stages: list[tuple[int, ...]]) -> dict[int, int]:
 def test_search_agrees_with_brute_force(
     source: int, rate: int, first: int, second: int, binary: int
 ) -> None:
-    text = f"1..{first}, pow2 0..{binary}, {second}..{second + 30}"
+    text = f"1..{first} x pow2 0..{binary} × {second}..{second + 30}"
     chain = parse_chain(text)
     counts = _brute_force([stage.choices for stage in chain.stages])
     ratio = Fraction(source, rate)
@@ -342,7 +345,7 @@ def test_exact_settings_agree_with_brute_force(
     rate: int, first: int, second: int, binary: int, picks: tuple[float, float, float]
 ) -> None:
     # The source is built from one setting of the chain, so at least that one is exact.
-    chain = parse_chain(f"1..{first}, pow2 0..{binary}, {second}..{second + 30}")
+    chain = parse_chain(f"1..{first} x pow2 0..{binary} × {second}..{second + 30}")
     stages = [stage.choices for stage in chain.stages]
     chosen = [
         stage[int(pick * (len(stage) - 1))] for stage, pick in zip(stages, picks, strict=True)

@@ -26,7 +26,7 @@ NOT_IN_A_CLONE = (
 )
 
 
-def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``bench`` subcommand."""
     parser = subparsers.add_parser(
         "bench",

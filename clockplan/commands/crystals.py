@@ -6,6 +6,7 @@ import argparse
 import json
 import time
 from collections.abc import Callable
+from dataclasses import dataclass
 from fractions import Fraction
 from typing import Any, TypeVar
 
@@ -18,7 +19,6 @@ from clockplan.crystals import (
     DEFAULT_ALLOWANCE,
     Candidate,
     Candidates,
-    Choices,
     CrystalSearch,
     FrequencyGrid,
     PllLimits,
@@ -26,22 +26,24 @@ from clockplan.crystals import (
     RateTarget,
     audio_targets,
     frequency_grid,
-    parse_rate,
-    parse_rate_list,
-    parse_rate_range,
     plain_targets,
     search_crystals,
     uart_targets,
     usb_full_speed_target,
 )
 from clockplan.errors import InputError
+from clockplan.peripherals.base import Divisors
 from clockplan.quantities import (
     QuantityError,
     exact_string,
     format_hz,
     format_relative,
+    parse_frequency,
+    parse_frequency_list,
+    parse_frequency_range,
     parse_integer_choices,
     parse_relative,
+    parse_whole,
 )
 
 Parsed = TypeVar("Parsed")
@@ -108,7 +110,7 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     structure.add_argument(
         "--divisor",
         metavar="CHOICES",
-        help='each rate\'s divisor: "1..65535" (default), "pow2 0..9" or "1,2,4"',
+        help='each rate\'s divisor: "1..65535" (default), "pow2 0..9" or a list "1,2,4"',
     )
     structure.add_argument(
         "--pll", action="store_true", help="oscillator ÷ R × M → one VCO, then ÷ per rate"
@@ -136,43 +138,100 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+@dataclass(frozen=True)
+class CrystalsOptions:
+    """The ``crystals`` command's options as typed: texts still to be read, and the switches."""
+
+    baud: tuple[str, ...]
+    oversampling: str | None
+    fraction_bits: str | None
+    usb_full_speed: bool
+    full_speed_only_device: bool
+    fs: tuple[str, ...]
+    mclk: str | None
+    rate: tuple[str, ...]
+    allowance: str | None
+    divisor: str | None
+    pll: bool
+    reference_divider: str | None
+    multiplier: str | None
+    vco: str | None
+    pfd: str | None
+    candidates: str | None
+    range: str | None
+    step: str | None
+    top: str | None
+    json: bool
+
+    @classmethod
+    def from_namespace(cls, args: argparse.Namespace) -> CrystalsOptions:
+        """The options argparse read, taken once at the command's boundary."""
+        return cls(
+            baud=tuple(args.baud or ()),
+            oversampling=args.oversampling,
+            fraction_bits=args.fraction_bits,
+            usb_full_speed=args.usb_full_speed,
+            full_speed_only_device=args.full_speed_only_device,
+            fs=tuple(args.fs or ()),
+            mclk=args.mclk,
+            rate=tuple(args.rate or ()),
+            allowance=args.allowance,
+            divisor=args.divisor,
+            pll=args.pll,
+            reference_divider=args.reference_divider,
+            multiplier=args.multiplier,
+            vco=args.vco,
+            pfd=args.pfd,
+            candidates=args.candidates,
+            range=args.range,
+            step=args.step,
+            top=args.top,
+            json=args.json,
+        )
+
+
 def run(args: argparse.Namespace) -> int:
+    """The ``crystals`` command: read the options once, then :func:`crystals_report`."""
+    return crystals_report(CrystalsOptions.from_namespace(args))
+
+
+def crystals_report(options: CrystalsOptions) -> int:
     """Search and print; exit 0 when the best oscillator meets every allowance, else 1."""
-    _refuse_stray_options(args)
-    divisor = _parsed(args, "divisor", _choices)
-    targets = _targets(args, divisor)
-    pll = _pll(args) if args.pll else None
-    candidates, where = _candidates(args)
-    top = _parsed(args, "top", lambda text: _whole(text, minimum=1, maximum=1000))
+    _refuse_stray_options(options)
+    divisor = _parsed(options.divisor, "divisor", parse_integer_choices)
+    targets = _targets(options, divisor)
+    pll = _pll(options) if options.pll else None
+    candidates, where = _candidates(options)
+    top = _parsed(options.top, "top", lambda text: parse_whole(text, minimum=1, maximum=1000))
     started = time.perf_counter()
     try:
         search = search_crystals(targets, candidates, pll=pll, top=top)
     except QuantityError as error:
         raise InputError("--reference-divider, --multiplier", str(error)) from None
     elapsed = time.perf_counter() - started
-    if args.json:
+    if options.json:
         print(json.dumps(_as_json(search, where), indent=2))
     else:
         _print_report(search, where, elapsed)
     return 0 if search.ranked and search.ranked[0].fits else 1
 
 
-def _refuse_stray_options(args: argparse.Namespace) -> None:
+def _refuse_stray_options(options: CrystalsOptions) -> None:
     """Options that shape something not asked for are mistakes: say which."""
-    needs = [
-        ("--oversampling", args.oversampling, args.baud, "--baud"),
-        ("--fraction-bits", args.fraction_bits, args.baud, "--baud"),
-        ("--mclk", args.mclk, args.fs, "--fs"),
-        ("--allowance", args.allowance, args.fs or args.rate, "--fs or --rate"),
-        ("--step", args.step, args.range, "--range"),
+    needs: list[tuple[str, str | None, bool, str]] = [
+        ("--oversampling", options.oversampling, bool(options.baud), "--baud"),
+        ("--fraction-bits", options.fraction_bits, bool(options.baud), "--baud"),
+        ("--mclk", options.mclk, bool(options.fs), "--fs"),
+        ("--allowance", options.allowance, bool(options.fs or options.rate), "--fs or --rate"),
+        ("--step", options.step, options.range is not None, "--range"),
     ]
     needs += [
-        (option, value, args.pll, "--pll")
+        (option, value, options.pll, "--pll")
         for option, value in (
-            ("--reference-divider", args.reference_divider),
-            ("--multiplier", args.multiplier),
-            ("--vco", args.vco),
-            ("--pfd", args.pfd),
+            ("--reference-divider", options.reference_divider),
+            ("--multiplier", options.multiplier),
+            ("--vco", options.vco),
+            ("--pfd", options.pfd),
         )
     ]
     for option, value, needed, what in needs:
@@ -180,9 +239,8 @@ def _refuse_stray_options(args: argparse.Namespace) -> None:
             raise InputError(option, f"applies only with {what}")
 
 
-def _parsed(args: argparse.Namespace, name: str, parse: Callable[[str], Parsed]) -> Parsed:
-    """Parse option ``name`` (or its default), turning a QuantityError into an InputError."""
-    value = getattr(args, name)
+def _parsed(value: str | None, name: str, parse: Callable[[str], Parsed]) -> Parsed:
+    """Parse option ``name``'s value (or its default), a QuantityError becoming an InputError."""
     text = DEFAULTS[name] if value is None else value
     try:
         return parse(text)
@@ -190,60 +248,64 @@ def _parsed(args: argparse.Namespace, name: str, parse: Callable[[str], Parsed])
         raise InputError(f"--{name.replace('_', '-')}", str(error)) from None
 
 
-def _whole(text: str, *, minimum: int, maximum: int) -> int:
-    if not text.strip().isdigit() or not minimum <= int(text) <= maximum:
-        raise QuantityError(f"{text!r} is not a whole number from {minimum} to {maximum}")
-    return int(text)
+def _rate(text: str) -> Fraction:
+    """A rate as people type it: a plain number is hertz (or baud); "44.1k", "12M" work."""
+    return parse_frequency(text, bare_unit="Hz")
 
 
-def _choices(text: str) -> Choices:
-    """Whole-number choices: "1..65535", "pow2 0..9", "12" or a list "1,2,4"."""
-    if "," in text:
-        parts = [part.strip() for part in text.split(",")]
-        if not all(part.isdigit() for part in parts):
-            raise QuantityError(f"{text!r} is not a list of whole numbers such as 1,2,4")
-        return parse_integer_choices([int(part) for part in parts])
-    return parse_integer_choices(text)
+def _rate_list(text: str) -> tuple[Fraction, ...]:
+    return parse_frequency_list(text, bare_unit="Hz")
 
 
-def _rates(values: list[str] | None, option: str) -> tuple[Fraction, ...]:
+def _rate_range(text: str) -> tuple[Fraction, Fraction]:
+    return parse_frequency_range(text, bare_unit="Hz")
+
+
+def _rates(values: tuple[str, ...], option: str) -> tuple[Fraction, ...]:
     """Every rate of a repeatable, comma-separated option, in order, without repeats."""
     found: dict[Fraction, None] = {}
-    for text in values or ():
+    for text in values:
         try:
-            found.update(dict.fromkeys(parse_rate_list(text)))
+            found.update(dict.fromkeys(_rate_list(text)))
         except QuantityError as error:
             raise InputError(option, str(error)) from None
     return tuple(found)
 
 
-def _targets(args: argparse.Namespace, divisor: Choices) -> tuple[RateTarget, ...]:
+def _targets(options: CrystalsOptions, divisor: Divisors) -> tuple[RateTarget, ...]:
     """The rates asked for, each with its divided clock, divisor counts and allowance."""
     targets: list[RateTarget] = []
-    bauds = _rates(args.baud, "--baud")
+    bauds = _rates(options.baud, "--baud")
     if bauds:
-        oversampling = _parsed(args, "oversampling", _oversampling)
-        bits = _parsed(args, "fraction_bits", lambda text: _whole(text, minimum=0, maximum=16))
+        oversampling = _parsed(options.oversampling, "oversampling", _oversampling)
+        bits = _parsed(
+            options.fraction_bits,
+            "fraction_bits",
+            lambda text: parse_whole(text, minimum=0, maximum=16),
+        )
         targets += uart_targets(
             bauds, oversampling=oversampling, fraction_bits=bits, divisor=divisor
         )
-    if args.full_speed_only_device and not args.usb_full_speed:
+    if options.full_speed_only_device and not options.usb_full_speed:
         raise InputError(
             "--full-speed-only-device", "says what the USB device is; add --usb-full-speed"
         )
-    if args.usb_full_speed:
-        only = args.full_speed_only_device
+    if options.usb_full_speed:
+        only = options.full_speed_only_device
         targets.append(usb_full_speed_target(divisor=divisor, full_speed_only_device=only))
     allowance, basis = DEFAULT_ALLOWANCE, ALLOWANCE_BASIS
-    if args.allowance is not None:
-        allowance, basis = _parsed(args, "allowance", _positive_relative), "given with --allowance"
-    sample_rates = _rates(args.fs, "--fs")
+    if options.allowance is not None:
+        allowance = _parsed(options.allowance, "allowance", _positive_relative)
+        basis = "given with --allowance"
+    sample_rates = _rates(options.fs, "--fs")
     if sample_rates:
-        ratio = _parsed(args, "mclk", lambda text: _whole(text, minimum=1, maximum=4096))
+        ratio = _parsed(
+            options.mclk, "mclk", lambda text: parse_whole(text, minimum=1, maximum=4096)
+        )
         targets += audio_targets(
             sample_rates, ratio=ratio, allowance=allowance, basis=basis, divisor=divisor
         )
-    plain = _rates(args.rate, "--rate")
+    plain = _rates(options.rate, "--rate")
     targets += plain_targets(plain, allowance=allowance, basis=basis, divisor=divisor)
     if not targets:
         raise InputError("crystals", "no rates given; add --baud, --usb-full-speed, --fs or --rate")
@@ -251,7 +313,7 @@ def _targets(args: argparse.Namespace, divisor: Choices) -> tuple[RateTarget, ..
 
 
 def _oversampling(text: str) -> int:
-    value = _whole(text, minimum=4, maximum=64)
+    value = parse_whole(text, minimum=4, maximum=64)
     if value % 2:
         raise QuantityError(f"{value} is odd; receivers sample an even count")
     return value
@@ -264,27 +326,29 @@ def _positive_relative(text: str) -> Fraction:
     return value
 
 
-def _pll(args: argparse.Namespace) -> PllLimits:
+def _pll(options: CrystalsOptions) -> PllLimits:
     return PllLimits(
-        reference_divider=_parsed(args, "reference_divider", _choices),
-        multiplier=_parsed(args, "multiplier", _choices),
-        vco=_parsed(args, "vco", parse_rate_range),
-        pfd=_parsed(args, "pfd", parse_rate_range),
+        reference_divider=_parsed(
+            options.reference_divider, "reference_divider", parse_integer_choices
+        ),
+        multiplier=_parsed(options.multiplier, "multiplier", parse_integer_choices),
+        vco=_parsed(options.vco, "vco", _rate_range),
+        pfd=_parsed(options.pfd, "pfd", _rate_range),
     )
 
 
-def _candidates(args: argparse.Namespace) -> tuple[Candidates, dict[str, Any]]:
+def _candidates(options: CrystalsOptions) -> tuple[Candidates, dict[str, Any]]:
     """Where to look, and a description of it for the report."""
-    if args.range is not None:
-        low, high = _parsed(args, "range", parse_rate_range)
-        step = _parsed(args, "step", parse_rate)
+    if options.range is not None:
+        low, high = _parsed(options.range, "range", _rate_range)
+        step = _parsed(options.step, "step", _rate)
         try:
             grid = frequency_grid(low, high, step)
         except QuantityError as error:
             raise InputError("--step" if low < high else "--range", str(error)) from None
         return grid, {"kind": "range"}
-    if args.candidates is not None:
-        return _parsed(args, "candidates", parse_rate_list), {"kind": "list"}
+    if options.candidates is not None:
+        return _parsed(options.candidates, "candidates", _rate_list), {"kind": "list"}
     return catalog_frequencies(), {"kind": "catalog"}
 
 
@@ -310,7 +374,7 @@ def _structure_text(search: CrystalSearch) -> str:
     )
 
 
-def _choices_text(choices: Choices, per: int = 1) -> str:
+def _choices_text(choices: Divisors, per: int = 1) -> str:
     if isinstance(choices, range) and choices.step == 1:
         return f"{choices.start // per}..{(choices.stop - 1) // per}"
     values = sorted({value // per for value in choices})

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 from collections.abc import Callable
+from dataclasses import dataclass
 from fractions import Fraction
 from typing import Any
 
@@ -16,19 +17,21 @@ from clockplan.circuits import (
     MIN_GAIN_MARGIN,
     OSCILLATOR_GUIDE,
     PICOFARAD,
+    CapacitorSeries,
     PierceAnalysis,
     PierceBoard,
     PierceCrystal,
     analyse_pierce,
-    parse_circuit_quantity,
 )
 from clockplan.errors import InputError
 from clockplan.quantities import (
+    Dimension,
     QuantityError,
     exact_string,
     format_hz,
     parse_capacitance,
     parse_frequency,
+    parse_positive_quantity,
 )
 
 DEFAULT_STRAY = "3 pF"
@@ -79,37 +82,77 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+@dataclass(frozen=True)
+class PierceOptions:
+    """The ``pierce`` command's options as typed: texts still to be read, and the switches."""
+
+    frequency: str | None
+    load: str | None
+    shunt: str | None
+    motional: str | None
+    esr: str | None
+    max_drive: str | None
+    stray: str | None
+    gm: str | None
+    swing: str | None
+    node_capacitance: str | None
+    series: str
+    unequal: bool
+    json: bool
+
+    @classmethod
+    def from_namespace(cls, args: argparse.Namespace) -> PierceOptions:
+        """The options argparse read, taken once at the command's boundary."""
+        return cls(
+            frequency=args.frequency,
+            load=args.load,
+            shunt=args.shunt,
+            motional=args.motional,
+            esr=args.esr,
+            max_drive=args.max_drive,
+            stray=args.stray,
+            gm=args.gm,
+            swing=args.swing,
+            node_capacitance=args.node_capacitance,
+            series=args.series,
+            unequal=args.unequal,
+            json=args.json,
+        )
+
+
 def run(args: argparse.Namespace) -> int:
-    """Analyse the circuit described by ``args`` and print it; 1 when a check fails."""
-    crystal, board = _read_inputs(args)
+    """The ``pierce`` command: read the options once, then :func:`pierce_report`."""
+    return pierce_report(PierceOptions.from_namespace(args))
+
+
+def pierce_report(options: PierceOptions) -> int:
+    """Analyse the circuit the options describe and print it; 1 when a check fails."""
+    crystal, board = _read_inputs(options)
     analysis = analyse_pierce(crystal, board)
-    if args.json:
+    if options.json:
         print(json.dumps(_as_json(crystal, board, analysis), indent=2))
     else:
-        _print_report(crystal, board, analysis, default_stray=args.stray is None)
+        _print_report(crystal, board, analysis, default_stray=options.stray is None)
     return 1 if _warnings(crystal, analysis) else 0
 
 
-def _read_inputs(args: argparse.Namespace) -> tuple[PierceCrystal, PierceBoard]:
+def _read_inputs(options: PierceOptions) -> tuple[PierceCrystal, PierceBoard]:
     """Parse and cross-check the options; every problem becomes an InputError."""
-    frequency = _required(args.frequency, "--frequency", parse_frequency)
-    load = _required(args.load, "--load", parse_capacitance)
-    stray = _parsed(args.stray or DEFAULT_STRAY, "--stray", parse_capacitance)
+    frequency = _required(options.frequency, "--frequency", parse_frequency)
+    load = _required(options.load, "--load", parse_capacitance)
+    stray = _parsed(options.stray or DEFAULT_STRAY, "--stray", parse_capacitance)
     if load <= 0:
-        raise InputError("--load", f"{args.load!r} must be above zero")
+        raise InputError("--load", f"{options.load!r} must be above zero")
     if stray >= load:
         raise InputError("--stray", f"{_pf(stray)} is at or above the load capacitance {_pf(load)}")
-    if args.series not in ("E12", "E24"):
-        raise InputError("--series", f"{args.series!r} is not E12 or E24")
+    series = _series(options.series)
     crystal = PierceCrystal(
         frequency=frequency,
         load=load,
-        shunt=_optional(args.shunt, "--shunt", parse_capacitance),
-        motional=_optional(args.motional, "--motional", _positive_capacitance),
-        esr=_optional(args.esr, "--esr", lambda text: parse_circuit_quantity(text, "resistance")),
-        max_drive=_optional(
-            args.max_drive, "--max-drive", lambda text: parse_circuit_quantity(text, "power")
-        ),
+        shunt=_optional(options.shunt, "--shunt", parse_capacitance),
+        motional=_optional(options.motional, "--motional", _positive_capacitance),
+        esr=_optional(options.esr, "--esr", _positive("resistance")),
+        max_drive=_optional(options.max_drive, "--max-drive", _positive("power")),
     )
     if crystal.motional is not None and crystal.shunt is None:
         raise InputError("--motional", "needs --shunt too: pulling depends on C0")
@@ -117,21 +160,32 @@ def _read_inputs(args: argparse.Namespace) -> tuple[PierceCrystal, PierceBoard]:
         raise InputError("--esr", "needs --shunt too: the critical gm depends on C0")
     board = PierceBoard(
         stray=stray,
-        transconductance=_optional(
-            args.gm, "--gm", lambda text: parse_circuit_quantity(text, "transconductance")
-        ),
-        swing=_optional(
-            args.swing, "--swing", lambda text: parse_circuit_quantity(text, "voltage")
-        ),
+        transconductance=_optional(options.gm, "--gm", _positive("transconductance")),
+        swing=_optional(options.swing, "--swing", _positive("voltage")),
         node_capacitance=_optional(
-            args.node_capacitance, "--node-capacitance", _positive_capacitance
+            options.node_capacitance, "--node-capacitance", _positive_capacitance
         ),
-        series=args.series,
-        unequal=args.unequal,
+        series=series,
+        unequal=options.unequal,
     )
     if board.transconductance is not None and crystal.esr is None:
         raise InputError("--gm", "needs --esr and --shunt to work out the gain margin")
     return crystal, board
+
+
+SERIES: dict[str, CapacitorSeries] = {"E12": "E12", "E24": "E24"}
+"""The capacitor series --series names."""
+
+
+def _series(text: str) -> CapacitorSeries:
+    if text not in SERIES:
+        raise InputError("--series", f"{text!r} is not E12 or E24")
+    return SERIES[text]
+
+
+def _positive(dimension: Dimension) -> Callable[[str], Fraction]:
+    """A reader of a positive quantity of ``dimension`` (an ESR, a swing, a gm)."""
+    return lambda text: parse_positive_quantity(text, dimension)
 
 
 def _positive_capacitance(text: str) -> Fraction:

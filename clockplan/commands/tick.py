@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import argparse
 import json
-import re
 from collections.abc import Callable
+from dataclasses import dataclass
 from fractions import Fraction
-from typing import Any
+from typing import Any, TypeVar
 
 from rich import box
 from rich.console import Console
@@ -16,16 +16,17 @@ from rich.table import Table
 from clockplan.errors import InputError
 from clockplan.quantities import (
     QuantityError,
-    check_plain_text,
     exact_string,
     format_hz,
     format_ppm,
     format_relative,
+    parse_cycles,
     parse_frequency,
     parse_number,
     parse_quantity,
     parse_relative,
     parse_temperature_range,
+    parse_whole,
 )
 from clockplan.text_safety import quoted
 from clockplan.tick import (
@@ -50,11 +51,6 @@ from clockplan.tick import (
     temperature_drift,
 )
 
-_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)"
-_CYCLES = re.compile(r"^\s*(?:2\s*\*\*\s*(\d+)|(\d+))\s*cycles?\s*$", re.ASCII)
-_DURATION = re.compile(rf"^\s*({_NUMBER}(?:[eE][+-]?\d+)?)\s*(s|min|h)\s*$", re.ASCII)
-_SECONDS_PER_UNIT = {"s": 1, "min": 60, "h": 3600}
-
 
 def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
     """Add the ``tick`` subcommand."""
@@ -64,13 +60,16 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
         description="Divide a source frequency through a chain of divider stages down to a tick. "
         "Shows whether the tick is exact, every exact setting (or the closest ones), and the "
         "drift in seconds per day, 30-day month and 365-day year (1 ppm = 86.4 ms/day).",
-        epilog='Chains: "pow2 15" (15 binary stages), "128, 256" (fixed stages), '
-        '"1..128, 1..32768" (programmable stages, every setting is searched), '
-        '"1|8|64|256|1024" (a stage with a choice). Without --chain a chain is suggested. '
+        epilog='Chains: "pow2 15" (15 binary stages), "128 x 256" (fixed stages joined by x), '
+        '"1..128 x 1..32768" (programmable stages, every setting is searched), '
+        '"1,8,64,256,1024" (a stage with a choice: a comma separates alternatives, as '
+        "everywhere). Without --chain a chain is suggested. "
         "A value starting with a minus sign needs '=': --temperature=-20..70.",
     )
     parser.add_argument("--source", metavar="FREQ", help='source frequency, e.g. "32.768 kHz"')
-    parser.add_argument("--chain", metavar="STAGES", help="divider stages, separated by commas")
+    parser.add_argument(
+        "--chain", metavar="STAGES", help='divider stages joined by x, e.g. "pow2 7 x 1..256"'
+    )
     parser.add_argument("--rate", metavar="FREQ", default="1 Hz", help='tick rate (default "1 Hz")')
     parser.add_argument(
         "--list",
@@ -108,31 +107,82 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+@dataclass(frozen=True)
+class TickOptions:
+    """The ``tick`` command's options as typed: texts still to be read, and the switches."""
+
+    source: str | None
+    chain: str | None
+    rate: str
+    listed: str
+    curve: str | None
+    coefficient: str | None
+    turnover: str | None
+    band: str | None
+    temperature: str | None
+    calibrate: str | None
+    window: str | None
+    step_cycles: str
+    max_steps: str | None
+    json: bool
+
+    @classmethod
+    def from_namespace(cls, args: argparse.Namespace) -> TickOptions:
+        """The options argparse read, taken once at the command's boundary."""
+        return cls(
+            source=args.source,
+            chain=args.chain,
+            rate=args.rate,
+            listed=args.list,
+            curve=args.curve,
+            coefficient=args.coefficient,
+            turnover=args.turnover,
+            band=args.band,
+            temperature=args.temperature,
+            calibrate=args.calibrate,
+            window=args.window,
+            step_cycles=args.step_cycles,
+            max_steps=args.max_steps,
+            json=args.json,
+        )
+
+
 def run(args: argparse.Namespace) -> int:
+    """The ``tick`` command: read the options once, then :func:`tick_report`."""
+    return tick_report(TickOptions.from_namespace(args))
+
+
+def tick_report(options: TickOptions) -> int:
     """Search the chain, add temperature and calibration when asked, and print the report."""
-    if args.source is None:
+    if options.source is None:
         raise InputError("--source", 'is required; give the source frequency, like "32.768 kHz"')
-    source = _parsed(args.source, "--source", parse_frequency)
-    rate = _parsed(args.rate, "--rate", parse_frequency)
-    listed = _whole(args.list, "--list", minimum=1, maximum=MAX_LISTED)
-    suggested = args.chain is None
+    source = _parsed(options.source, "--source", parse_frequency)
+    rate = _parsed(options.rate, "--rate", parse_frequency)
+    listed = _whole(options.listed, "--list", minimum=1, maximum=MAX_LISTED)
+    suggested = options.chain is None
     chain = (
-        suggest_chain(source, rate) if suggested else _parsed(args.chain, "--chain", parse_chain)
+        suggest_chain(source, rate)
+        if options.chain is None
+        else _parsed(options.chain, "--chain", parse_chain)
     )
     try:
         search = search_chain(source, rate, chain, listed=listed)
     except QuantityError as error:
         raise InputError("--chain", str(error)) from None
-    heat = _temperature(args, search.best.error)
-    calibration = _calibration(args, source)
-    if args.json:
+    heat = _temperature(options, search.best.error)
+    calibration = _calibration(options, source)
+    if options.json:
         print(json.dumps(_as_json(search, suggested, heat, calibration), indent=2))
     else:
         _print_report(search, suggested, heat, calibration)
     return 0
 
 
-def _parsed(text: str, option: str, parse: Callable[[str], Any]) -> Any:
+Parsed = TypeVar("Parsed")
+
+
+def _parsed(text: str, option: str, parse: Callable[[str], Parsed]) -> Parsed:
+    """``parse(text)``, a QuantityError becoming an InputError that names ``option``."""
     try:
         return parse(text)
     except QuantityError as error:
@@ -147,89 +197,74 @@ calibration register or list makes sense, and the arithmetic would only grow."""
 
 
 def _whole(text: str, option: str, *, minimum: int, maximum: int = MAX_COUNT) -> int:
-    digits = text.strip()
-    if not (digits.isascii() and digits.isdigit()) or len(digits) > 19 or int(digits) < minimum:
-        raise InputError(option, f"{quoted(text)} is not a whole number of at least {minimum}")
-    if int(digits) > maximum:
-        raise InputError(option, f"{quoted(text)} is more than {maximum}")
-    return int(digits)
+    def whole(digits: str) -> int:
+        return parse_whole(digits, minimum=minimum, maximum=maximum)
+
+    return _parsed(text, option, whole)
 
 
-def _temperature(args: argparse.Namespace, base_error: Fraction) -> TemperatureDrift | None:
+def _temperature(options: TickOptions, base_error: Fraction) -> TemperatureDrift | None:
     """The drift over temperature asked for by --curve or --band with --temperature."""
     behaviour: ParabolicCurve | SymmetricBand
-    if args.curve is not None and args.band is not None:
+    if options.curve is not None and options.band is not None:
         raise InputError("--band", "give either --curve or --band, not both")
-    if args.curve is None and (args.coefficient is not None or args.turnover is not None):
+    if options.curve is None and (options.coefficient is not None or options.turnover is not None):
         raise InputError("--coefficient", "and --turnover shape a --curve; add --curve tuning-fork")
-    if args.curve is not None:
-        if args.curve != "tuning-fork":
-            raise InputError("--curve", f"{args.curve!r} is not a known curve; use tuning-fork")
+    if options.curve is not None:
+        if options.curve != "tuning-fork":
+            raise InputError("--curve", f"{options.curve!r} is not a known curve; use tuning-fork")
         behaviour = ParabolicCurve(
-            _parsed(args.coefficient, "--coefficient", parse_number)
-            if args.coefficient is not None
+            _parsed(options.coefficient, "--coefficient", parse_number)
+            if options.coefficient is not None
             else TUNING_FORK_COEFFICIENT_PPM,
-            _parsed(args.turnover, "--turnover", parse_number)
-            if args.turnover is not None
+            _parsed(options.turnover, "--turnover", parse_number)
+            if options.turnover is not None
             else TUNING_FORK_TURNOVER_C,
         )
-    elif args.band is not None:
-        behaviour = SymmetricBand(_parsed(args.band, "--band", parse_relative))
-    elif args.temperature is not None:
+    elif options.band is not None:
+        behaviour = SymmetricBand(_parsed(options.band, "--band", parse_relative))
+    elif options.temperature is not None:
         raise InputError("--temperature", "needs --curve tuning-fork or --band to say how")
     else:
         return None
-    if args.temperature is None:
+    if options.temperature is None:
         raise InputError("--temperature", 'is needed with --curve or --band, e.g. "-20..70"')
-    low, high = _temperature_range(args.temperature)
+    low, high = _parsed(options.temperature, "--temperature", parse_temperature_range)
     return temperature_drift(base_error, behaviour, low, high)
 
 
-def _temperature_range(text: str) -> tuple[Fraction, Fraction]:
-    try:
-        return parse_temperature_range(text)
-    except QuantityError as error:
-        raise InputError("--temperature", str(error)) from None
-
-
 def _calibration(
-    args: argparse.Namespace, source: Fraction
+    options: TickOptions, source: Fraction
 ) -> tuple[PulseCalibration, CalibrationSetting | None] | None:
     """The calibration step, and the best setting when an offset was measured."""
-    if args.window is None:
-        if args.calibrate is not None or args.max_steps is not None:
+    if options.window is None:
+        if options.calibrate is not None or options.max_steps is not None:
             raise InputError("--window", 'is needed for calibration, e.g. "2**20 cycles" or "32 s"')
         return None
-    window = _window_cycles(args.window, source)
-    steps = _whole(args.step_cycles, "--step-cycles", minimum=1)
-    limit = None if args.max_steps is None else _whole(args.max_steps, "--max-steps", minimum=0)
+    window = _window_cycles(options.window, source)
+    steps = _whole(options.step_cycles, "--step-cycles", minimum=1)
+    limit = (
+        None if options.max_steps is None else _whole(options.max_steps, "--max-steps", minimum=0)
+    )
     try:
         calibration = PulseCalibration(window, steps, limit)
     except QuantityError as error:
         raise InputError("--step-cycles", str(error)) from None
-    if args.calibrate is None:
+    if options.calibrate is None:
         return calibration, None
-    measured = _parsed(args.calibrate, "--calibrate", lambda text: parse_quantity(text, "relative"))
+    measured = _parsed(
+        options.calibrate, "--calibrate", lambda text: parse_quantity(text, "relative")
+    )
     return calibration, best_calibration(measured, calibration)
 
 
 def _window_cycles(text: str, source: Fraction) -> int:
     """The calibration window in source cycles, from cycles or from a duration."""
-    check = _parsed(text, "--window", check_plain_text)
-    cycles = _CYCLES.match(check)
     too_long = f"{quoted(text)} is longer than 2**62 source cycles"
-    if cycles:
-        power, plain = cycles.groups()
-        if len((power or plain).lstrip("0")) > 19:
-            raise InputError("--window", too_long)
-        count = 2 ** int(power) if power and int(power) <= 62 else int(plain or MAX_COUNT + 1)
-    else:
-        duration = _DURATION.match(check)
-        if duration is None:
-            expected = '"2**20 cycles", "1048576 cycles" or "32 s"'
-            raise InputError("--window", f"{quoted(text)} is not a window such as {expected}")
-        seconds = _parsed(duration.group(1), "--window", parse_number)
-        exact = seconds * _SECONDS_PER_UNIT[duration.group(2)] * source
+    count = _parsed(text, "--window", lambda written: parse_cycles(written, limit=MAX_COUNT))
+    if count is None:
+        seconds = _parsed(text, "--window", _duration_seconds)
+        exact = seconds * source
         if exact > MAX_COUNT:
             raise InputError("--window", too_long)
         if exact.denominator != 1:
@@ -240,6 +275,15 @@ def _window_cycles(text: str, source: Fraction) -> int:
     if count < 2:
         raise InputError("--window", f"{quoted(text)} is shorter than two source cycles")
     return count
+
+
+def _duration_seconds(text: str) -> Fraction:
+    """A window written as a duration ("32 s", "2 min"), in seconds."""
+    try:
+        return parse_quantity(text, "time")
+    except QuantityError:
+        expected = '"2**20 cycles", "1048576 cycles" or "32 s"'
+        raise QuantityError(f"{quoted(text)} is not a window such as {expected}") from None
 
 
 def _plural(count: int, word: str) -> str:
