@@ -1,14 +1,17 @@
 """An SVG picture of a plan graph, written by hand so it needs nothing but a browser.
 
-Layout, left to right: clocks sit in columns by topological generation (an
-oscillator, then what it feeds …), peripherals in one last column. Within the
-picture each node hangs under one parent (a mux under the input it chose), leaves
-take successive rows and a parent sits level with the middle of its children.
-Edges carry the divider settings; nodes carry names, frequencies and rate verdicts.
+Layout, top down like an outline, so the picture stays as narrow as a page however long
+the chains are: each node is a box on a row of its own, indented by its depth under the
+oscillator that feeds it; a line runs down from each parent and branches right into each
+child. Within the picture each node hangs under one parent (a mux under the input it
+chose); under its other inputs a dashed box says the mux did not choose them. Every box
+carries the node's name, frequency and setting (a PLL's PFD and VCO too), every peripheral
+its rates and verdicts, so the lines need no labels.
 """
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 from xml.sax.saxutils import escape, quoteattr
@@ -17,15 +20,25 @@ import networkx as nx
 
 from clockplan.text import AT_RISK, FAIL
 
-__all__ = ["plan_svg"]
+__all__ = ["plan_svg", "PAGE_WIDTH"]
 
+PAGE_WIDTH = 1000
+"""The width, in pixels, that the picture of every board we ship stays within."""
 FONT_SIZE = 12
 """Text size in pixels."""
 CHARACTER_WIDTH = 7.4
 """Generous average width of one character at FONT_SIZE (sans-serif), for box sizes."""
+TITLE_CHARACTER_WIDTH = 10.0
+"""The same for the 16-pixel bold title."""
 LINE_HEIGHT = 16
 PADDING = 8
-ROW_GAP = 18
+SPAN_GAP = 10
+"""Space between two pieces of text on one line of a box."""
+ROW_GAP = 12
+INDENT = 40
+"""How far a child's box sits right of its parent's."""
+STEM = 18
+"""Where, from a box's left edge, the line to its children leaves it."""
 MARGIN = 24
 TITLE_HEIGHT = 52
 
@@ -35,63 +48,77 @@ _FILL = {
     "divider": ("#e9f4ea", "#3f7a43"),
     "mux": ("#f1e9fa", "#6b4597"),
     "peripheral": ("#ffffff", "#555555"),
+    "unchosen": ("#ffffff", "#9a9a9a"),
 }
 """Fill and outline by role (our own palette)."""
 _VERDICT_COLOUR = {FAIL: "#b3261e", AT_RISK: "#a05a00"}
 _PASS_COLOUR = "#2e6b30"
+_INK, _GREY, _FAINT, _FREQUENCY = "#222222", "#555555", "#9a9a9a", "#1d5a85"
+
+
+@dataclass(frozen=True)
+class _Span:
+    """A piece of text on one line of a box."""
+
+    text: str
+    colour: str
+    bold: bool = False
+
+
+@dataclass(frozen=True)
+class _Row:
+    """One box of the outline: a node, or a mux input the mux did not choose."""
+
+    key: str
+    """The node's name; for an unchosen input, ``"<input> -> <mux>"``."""
+    role: str
+    depth: int
+    parent: str | None
+    """The key of the row it hangs under."""
+    lines: tuple[tuple[_Span, ...], ...]
+    outline: str | None = None
+    """A verdict's colour for the box's outline, else the role's."""
 
 
 @dataclass(frozen=True)
 class _Box:
-    """A node's place and text in the picture."""
+    """A row's place in the picture."""
 
-    name: str
+    row: _Row
     x: float
     y: float
     width: float
     height: float
-    lines: tuple[tuple[str, str, bool], ...]
-    """(text, colour, bold) per line."""
 
 
-def _text_width(text: str) -> float:
-    return len(text) * CHARACTER_WIDTH
+def _text_width(text: str, character_width: float = CHARACTER_WIDTH) -> float:
+    return len(text) * character_width
 
 
-def _node_lines(name: str, data: dict[str, Any]) -> tuple[tuple[str, str, bool], ...]:
-    if data["role"] == "peripheral":
-        lines = [(f"{name}  ({data['kind']})", "#222222", True)]
-        for index in range(1, data["rates"] + 1):
-            verdict = data[f"rate{index}_verdict"]
-            colour = _VERDICT_COLOUR.get(verdict, _PASS_COLOUR)
-            share = data[f"rate{index}_share"] * 100
-            lines.append(
-                (
-                    f"{data[f'rate{index}_label']}: {data[f'rate{index}_achieved']}, "
-                    f"{share:.2f} % of {data[f'rate{index}_limit']} used, {verdict}",
-                    colour,
-                    False,
-                )
-            )
-        return tuple(lines)
+def _line_width(line: tuple[_Span, ...]) -> float:
+    return sum(_text_width(span.text) for span in line) + SPAN_GAP * (len(line) - 1)
+
+
+def _clock_lines(name: str, data: dict[str, Any]) -> tuple[tuple[_Span, ...], ...]:
+    """A clock's name and frequency, then its setting (an oscillator's kind), then its loop."""
+    lines = [(_Span(name, _INK, bold=True), _Span(data["frequency"], _FREQUENCY))]
     detail = data.get("kind", "") if data["role"] == "source" else data["setting"]
-    lines = [(name, "#222222", True), (data["frequency"], "#222222", False)]
-    if detail:
-        lines.append((detail, "#555555", False))
-    if "loop" in data:
-        lines.append((data["loop"], "#555555", False))
+    lines += [(_Span(text, _GREY),) for text in (detail, data.get("loop", "")) if text]
     return tuple(lines)
 
 
-def _columns(graph: nx.DiGraph[str]) -> dict[str, int]:
-    """Column of each node: clocks by generation, peripherals all in the last column."""
-    clocks = [name for name, data in graph.nodes(data=True) if data["role"] != "peripheral"]
-    column: dict[str, int] = {}
-    for index, generation in enumerate(nx.topological_generations(graph.subgraph(clocks))):
-        column.update({name: index for name in generation})
-    last = max(column.values(), default=-1) + 1
-    column.update({name: last for name in graph.nodes if name not in column})
-    return column
+def _peripheral_lines(name: str, data: dict[str, Any]) -> tuple[tuple[_Span, ...], ...]:
+    """A peripheral's name and kind, then one line per rate with its figures and verdict."""
+    lines = [(_Span(name, _INK, bold=True), _Span(f"({data['kind']})", _GREY))]
+    for index in range(1, data["rates"] + 1):
+        verdict = data[f"rate{index}_verdict"]
+        share = data[f"rate{index}_share"] * 100
+        text = (
+            f"{data[f'rate{index}_label']}: {data[f'rate{index}_achieved']}, "
+            f"{share:.2f} % of {data[f'rate{index}_limit']} used, {verdict}"
+        )
+        lines.append((_Span(text, _VERDICT_COLOUR.get(verdict, _PASS_COLOUR)),))
+    return tuple(lines)
 
 
 def _parent(graph: nx.DiGraph[str], name: str) -> str | None:
@@ -101,124 +128,103 @@ def _parent(graph: nx.DiGraph[str], name: str) -> str | None:
     return (chosen or inputs)[0] if inputs else None
 
 
-def _rows(graph: nx.DiGraph[str]) -> dict[str, float]:
-    """Row of each node: leaves in order, parents level with the middle of their children."""
+def _rows(graph: nx.DiGraph[str]) -> list[_Row]:
+    """Every node once, depth first from each oscillator in the file's order, children in
+    order; an input a mux did not choose gets a dashed row naming the mux."""
     order = {name: index for index, name in enumerate(graph.nodes)}
-    children: dict[str, list[str]] = {name: [] for name in graph.nodes}
-    roots = []
-    for name in graph.nodes:
-        parent = _parent(graph, name)
-        if parent is None:
-            roots.append(name)
-        else:
-            children[parent].append(name)
-    rows: dict[str, float] = {}
-    next_row = 0
+    parents = {name: _parent(graph, name) for name in graph.nodes}
 
-    def place(name: str) -> float:
-        nonlocal next_row
-        kids = sorted(children[name], key=order.__getitem__)
-        if not kids:
-            rows[name], next_row = next_row, next_row + 1
-        else:
-            placed = [place(kid) for kid in kids]
-            rows[name] = (placed[0] + placed[-1]) / 2
-        return rows[name]
+    def walk(name: str, depth: int, parent: str | None) -> Iterator[_Row]:
+        data = graph.nodes[name]
+        if data["role"] == "peripheral":
+            verdict = data.get("verdict")
+            outline = _VERDICT_COLOUR.get(verdict, _PASS_COLOUR) if verdict else None
+            yield _Row(name, "peripheral", depth, parent, _peripheral_lines(name, data), outline)
+            return
+        yield _Row(name, data["role"], depth, parent, _clock_lines(name, data))
+        for child in sorted(graph.successors(name), key=order.__getitem__):
+            if parents[child] == name:
+                yield from walk(child, depth + 1, name)
+            else:
+                label = graph.edges[name, child].get("label", "")
+                text = f"{child}: {label}, not chosen" if label else f"{child}: not chosen"
+                line = (_Span(text, _GREY),)
+                yield _Row(f"{name} -> {child}", "unchosen", depth + 1, name, (line,))
 
-    for root in roots:
-        place(root)
-    return rows
+    return [row for name in graph.nodes if parents[name] is None for row in walk(name, 0, None)]
 
 
-def _layout(graph: nx.DiGraph[str]) -> tuple[dict[str, _Box], float, float, float]:
-    columns, rows = _columns(graph), _rows(graph)
-    lines = {name: _node_lines(name, data) for name, data in graph.nodes(data=True)}
-    widths = {
-        name: max(_text_width(text) for text, _, _ in node_lines) + 2 * PADDING
-        for name, node_lines in lines.items()
-    }
-    heights = {
-        name: len(node_lines) * LINE_HEIGHT + 2 * PADDING for name, node_lines in lines.items()
-    }
-    pitch = max(heights.values()) + ROW_GAP
-    count = max(columns.values()) + 1
-    column_width = [
-        max(widths[name] for name in graph.nodes if columns[name] == column)
-        for column in range(count)
-    ]
-    labels = [_text_width(data["label"]) for _, _, data in graph.edges(data=True)]
-    gap = max([90.0, *(width + 40 for width in labels)])
-    left = [MARGIN + sum(column_width[:column]) + gap * column for column in range(count)]
-    boxes = {
-        name: _Box(
-            name,
-            left[columns[name]],
-            TITLE_HEIGHT + MARGIN + rows[name] * pitch + (pitch - ROW_GAP - heights[name]) / 2,
-            widths[name],
-            heights[name],
-            lines[name],
-        )
-        for name in graph.nodes
-    }
-    width = left[-1] + column_width[-1] + MARGIN
-    height = TITLE_HEIGHT + MARGIN + (max(rows.values()) + 1) * pitch + MARGIN
-    return boxes, width, height, gap
+def _layout(rows: list[_Row]) -> list[_Box]:
+    """Boxes one under the other, each indented by its depth."""
+    boxes, y = [], float(TITLE_HEIGHT + MARGIN)
+    for row in rows:
+        width = max(_line_width(line) for line in row.lines) + 2 * PADDING
+        height = len(row.lines) * LINE_HEIGHT + 2 * PADDING
+        boxes.append(_Box(row, MARGIN + row.depth * INDENT, y, width, height))
+        y += height + ROW_GAP
+    return boxes
 
 
-def _box_svg(box: _Box, role: str, verdict: str | None) -> list[str]:
-    fill, outline = _FILL[role]
-    if verdict is not None:
-        outline = _VERDICT_COLOUR.get(verdict, _PASS_COLOUR)
-    radius = 10 if role in ("source", "peripheral") else 3
+def _box_svg(box: _Box) -> list[str]:
+    row = box.row
+    fill, outline = _FILL[row.role]
+    radius = 10 if row.role in ("source", "peripheral") else 3
+    dash = ' stroke-dasharray="5 4"' if row.role == "unchosen" else ""
+    group = "node" if row.role != "unchosen" else "unchosen-input"
     parts = [
-        f'<g class="node {role}" data-name={quoteattr(box.name)}>',
-        f'<rect x="{box.x:.1f}" y="{box.y:.1f}" width="{box.width:.1f}" height="{box.height:.1f}" '
-        f'rx="{radius}" fill="{fill}" stroke="{outline}" stroke-width="1.5"/>',
+        f'<g class="{group} {row.role}" data-name={quoteattr(row.key)}>',
+        f'<rect x="{box.x:.1f}" y="{box.y:.1f}" width="{box.width:.1f}" '
+        f'height="{box.height:.1f}" rx="{radius}" fill="{fill}" '
+        f'stroke="{row.outline or outline}" stroke-width="1.5"{dash}/>',
     ]
-    for index, (text, colour, bold) in enumerate(box.lines):
+    for index, line in enumerate(row.lines):
         y = box.y + PADDING + (index + 1) * LINE_HEIGHT - 4
-        weight = ' font-weight="bold"' if bold else ""
-        parts.append(
-            f'<text x="{box.x + PADDING:.1f}" y="{y:.1f}" fill="{colour}"{weight}>'
-            f"{escape(text)}</text>"
-        )
+        x = box.x + PADDING
+        for span in line:
+            weight = ' font-weight="bold"' if span.bold else ""
+            parts.append(
+                f'<text x="{x:.1f}" y="{y:.1f}" fill="{span.colour}"{weight}>'
+                f"{escape(span.text)}</text>"
+            )
+            x += _text_width(span.text) + SPAN_GAP
     parts.append("</g>")
     return parts
 
 
-def _edge_svg(start: _Box, end: _Box, label: str, dashed: bool, gap: float) -> list[str]:
-    """A line from ``start`` to ``end``: straight across columns, curving in the last gap."""
-    x1, y1 = start.x + start.width, start.y + start.height / 2
-    x2, y2 = end.x - 2, end.y + end.height / 2
-    bend = max(x1, end.x - gap)
-    middle = (bend + x2) / 2
+def _branch_svg(parent: _Box, child: _Box) -> str:
+    """The line from a parent down its stem and right into the child's box."""
+    x, top = parent.x + STEM, parent.y + parent.height
+    middle = child.y + child.height / 2
+    dashed = child.row.role == "unchosen"
+    colour = _FAINT if dashed else "#444444"
     dash = ' stroke-dasharray="5 4"' if dashed else ""
-    colour = "#9a9a9a" if dashed else "#444444"
-    parts = [
-        f'<path d="M{x1:.1f},{y1:.1f} H{bend:.1f} C{middle:.1f},{y1:.1f} {middle:.1f},{y2:.1f} '
-        f'{x2:.1f},{y2:.1f}" fill="none" stroke="{colour}" stroke-width="1.3"{dash} '
-        'marker-end="url(#arrow)"/>'
-    ]
-    if label:
-        parts.append(
-            f'<text x="{middle:.1f}" y="{(y1 + y2) / 2 - 5:.1f}" text-anchor="middle" '
-            f'fill="{colour}" stroke="#ffffff" stroke-width="4" paint-order="stroke">'
-            f"{escape(label)}</text>"
-        )
-    return parts
+    return (
+        f'<path d="M{x:.1f},{top:.1f} V{middle:.1f} H{child.x - 2:.1f}" fill="none" '
+        f'stroke="{colour}" stroke-width="1.3"{dash} marker-end="url(#arrow)"/>'
+    )
 
 
 def plan_svg(graph: nx.DiGraph[str]) -> str:
     """The plan graph (from :func:`clockplan.graphs.plan_graph`) as a standalone SVG document."""
-    boxes, width, height, gap = _layout(graph)
+    boxes = _layout(_rows(graph))
     share = graph.graph["worst_share"] * 100
     subtitle = (
         f"plan {graph.graph['rank']} ({graph.graph['status']}), worst share {share:.2f} % "
         "of an allowance"
     )
-    if any(data.get("selected") is False for _, _, data in graph.edges(data=True)):
+    if any(box.row.role == "unchosen" for box in boxes):
         subtitle += "; dashed: a mux input not chosen"
     title = f"{graph.graph['title']}: clock tree"
+    width = (
+        MARGIN
+        + max(
+            _text_width(title, TITLE_CHARACTER_WIDTH),
+            _text_width(subtitle),
+            *(box.x - MARGIN + box.width for box in boxes),
+        )
+        + MARGIN
+    )
+    height = boxes[-1].y + boxes[-1].height + MARGIN if boxes else TITLE_HEIGHT + MARGIN
     parts = [
         '<?xml version="1.0" encoding="UTF-8"?>',
         f'<svg xmlns="http://www.w3.org/2000/svg" width="{width:.0f}" height="{height:.0f}" '
@@ -232,13 +238,13 @@ def plan_svg(graph: nx.DiGraph[str]) -> str:
         f'<rect width="{width:.0f}" height="{height:.0f}" fill="#ffffff"/>',
         f'<text x="{MARGIN}" y="{MARGIN + 6}" font-size="16" font-weight="bold">'
         f"{escape(title)}</text>",
-        f'<text x="{MARGIN}" y="{MARGIN + 26}" fill="#555555">{escape(subtitle)}</text>',
+        f'<text x="{MARGIN}" y="{MARGIN + 26}" fill="{_GREY}">{escape(subtitle)}</text>',
     ]
-    for parent, child, data in graph.edges(data=True):
-        dashed = data.get("selected") is False
-        parts += _edge_svg(boxes[parent], boxes[child], data.get("label", ""), dashed, gap)
-    for name, data in graph.nodes(data=True):
-        verdict = data.get("verdict") if data["role"] == "peripheral" else None
-        parts += _box_svg(boxes[name], data["role"], verdict)
+    by_key = {box.row.key: box for box in boxes}
+    parts += [
+        _branch_svg(by_key[box.row.parent], box) for box in boxes if box.row.parent is not None
+    ]
+    for box in boxes:
+        parts += _box_svg(box)
     parts.append("</svg>")
     return "\n".join(parts) + "\n"

@@ -12,6 +12,7 @@ from rich.text import Text
 
 from clockplan.compare import Change, Side
 from clockplan.evaluate import RateCheck
+from clockplan.phrases import Phrases, listed
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import STATUS_WORDS, Explanation, RankedPlan, SearchResult
 from clockplan.scenario import Scenario
@@ -26,6 +27,7 @@ __all__ = [
     "explanation_text",
     "budget_table",
     "changes_table",
+    "sides_text",
 ]
 
 
@@ -91,25 +93,35 @@ def _stacked_cell(cells: list[str | Text]) -> str | Text:
     return joined
 
 
-def status_line(result: SearchResult) -> Text:
+def status_line(result: SearchResult) -> Phrases:
     """What the search proved, how long the whole run took, and the ranking order used."""
     words = STATUS_WORDS[result.status]
     if result.interrupted:
         words = "stopped by Ctrl-C: the best plans found so far, not proved"
     style = {"optimal": "bold green", "feasible": "yellow"}.get(result.status.value, "bold red")
-    line = Text.assemble(("Status: ", "bold"), (words, style), f"   {result.elapsed:.2f} s")
+    lines = [
+        (Text.assemble(("Status: ", "bold"), (words, style)), Text(f"   {result.elapsed:.2f} s"))
+    ]
     cut = [ranked for ranked in result.plans if ranked.unproved]
     if cut:
         first = cut[0]
-        line.append(
-            f"\n  rank {first.rank}: not proved: {', '.join(first.unproved)}", style="yellow"
+        stages = listed(first.unproved)
+        lines.append(
+            _styled((Text(f"  rank {first.rank}: not proved: ") + stages[0], *stages[1:]), "yellow")
         )
     elif result.time_limited and not result.interrupted and result.plans:
-        line.append("\n  the time limit stopped the search for further ranks", style="yellow")
+        lines.append((Text("  the time limit stopped the search for further ranks", "yellow"),))
     elif result.exhausted and result.plans:
-        line.append("\n  no other oscillator choice has a plan (proved)")
-    line.append(f"\n  ranked by, in order: {', '.join(result.order)}", style="dim")
-    return line
+        lines.append((Text("  no other oscillator choice has a plan (proved)"),))
+    order = listed(result.order)
+    lines.append(_styled((Text("  ranked by, in order: ") + order[0], *order[1:]), "dim"))
+    return Phrases(tuple(lines))
+
+
+def _styled(phrases: tuple[Text, ...], style: str) -> tuple[Text, ...]:
+    for phrase in phrases:
+        phrase.stylize(style)
+    return phrases
 
 
 def share_text(share: Fraction) -> Text:
@@ -315,19 +327,34 @@ def explanation_text(explanation: Explanation) -> Text:
     return text
 
 
-def changes_table(a: Side, b: Side, changes: tuple[Change, ...]) -> Table:
-    """The changes as a table, node by node; a node's name is shown on its first row only."""
-    table = Table(title="What changed from plan A to plan B", title_justify="left")
-    table.add_column("node")
-    table.add_column("what")
+def sides_text(a: Side, b: Side) -> Phrases:
+    """Which plans are compared: each side's title and file, then its rank and status; a
+    narrow terminal breaks a line before the file's name, not inside it."""
+    lines = []
+    for label, side in (("A", a), ("B", b)):
+        which = (
+            "no plan meets every allowance (proved); its closest plan"
+            if side.closest
+            else f"rank {side.ranked.rank}"
+        )
+        title = Text(printable(f"{label}: {side.scenario.title}"))
+        lines.append((title, Text(printable(f" ({side.scenario.file})"))))
+        lines.append((Text(f"   {which},"), Text(f" {side.ranked.status.value}")))
+    return Phrases(tuple(lines), hanging=3)
+
+
+def changes_table(a: Side, b: Side, changes: tuple[Change, ...]) -> Grid:
+    """The changes as a table, node by node; a node's name is shown on its first row only.
+    On a narrow terminal plan A's value stands above plan B's in one column."""
+    columns: list[tuple[str, JustifyMethod]] = [("node", "left"), ("what", "left")]
     for label, side in (("A", a), ("B", b)):
         which = "closest" if side.closest else f"rank {side.ranked.rank}"
-        table.add_column(f"{label}: {which}", justify="right")
+        columns.append((f"{label}: {which}", "right"))
+    rows = []
     previous = None
     for change in changes:
         what = f"{change.aspect} {change.item}".strip()
-        table.add_row(
-            change.node if change.node != previous else "", what, change.a_text, change.b_text
-        )
+        node = change.node if change.node != previous else ""
+        rows.append((node, what, change.a_text, change.b_text))
         previous = change.node
-    return table
+    return Grid("What changed from plan A to plan B", tuple(columns), tuple(rows), stack=((2, 3),))

@@ -15,6 +15,7 @@ from rich.tree import Tree
 
 from clockplan.evaluate import RateCheck
 from clockplan.peripherals import Peripheral
+from clockplan.phrases import Phrases, listed
 from clockplan.plan import Plan
 from clockplan.quantities import format_hz, format_relative
 from clockplan.result import RankedPlan
@@ -44,16 +45,22 @@ def verdict_text(verdict: str) -> Text:
     return Text(f"[{word}]", style=style)
 
 
-def legend() -> Text:
-    """One line explaining the marks."""
-    return Text.assemble(
-        ("marks: ", "dim"),
-        verdict_text("pass"),
-        (" worst case inside the allowance  ", "dim"),
-        verdict_text(AT_RISK),
-        (" above 80 % of it (our own convention)  ", "dim"),
-        verdict_text(FAIL),
-        (" outside it", "dim"),
+def legend() -> Phrases:
+    """One line explaining the marks (broken only between marks on a narrow terminal)."""
+    return Phrases(
+        (
+            (
+                Text.assemble(
+                    ("marks: ", "dim"),
+                    verdict_text("pass"),
+                    (" worst case inside the allowance", "dim"),
+                ),
+                Text.assemble(
+                    "  ", verdict_text(AT_RISK), (" above 80 % of it (our own convention)", "dim")
+                ),
+                Text.assemble("  ", verdict_text(FAIL), (" outside it", "dim")),
+            ),
+        )
     )
 
 
@@ -62,10 +69,14 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
     graph = clock_graph(scenario)
     plan, evaluation = ranked.plan, ranked.evaluation
     root = Tree(
-        Text.assemble(
-            (printable(scenario.title), "bold"),
-            f"  plan {ranked.rank} ({ranked.status.value})  worst share ",
-            (format_share(evaluation.worst_share), "bold"),
+        Phrases(
+            (
+                (
+                    Text(printable(scenario.title), style="bold"),
+                    Text(f"  plan {ranked.rank} ({ranked.status.value})"),
+                    Text.assemble("  worst share ", (format_share(evaluation.worst_share), "bold")),
+                ),
+            )
         ),
         guide_style="dim",
     )
@@ -74,25 +85,23 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
         peripheral = scenario.node(name)
         if isinstance(peripheral, Peripheral):
             checks = [c for c in evaluation.checks if c.requirement.peripheral == name]
-            leaf = branch.add(Text.assemble((name, "bold"), "  ", (peripheral.kind, "dim")))
+            kind = Text(f"  {peripheral.kind}", style="dim")
+            leaf = branch.add(Phrases(((Text(name, style="bold"), kind),)))
             for check in checks:
-                leaf.add(_rate_line(check, plan))
+                leaf.add(_rate_phrases(check, plan))
             return
-        what = setting_text(scenario, plan, name)
+        details = listed(setting_text(scenario, plan, name).split(", "))
         if name in plan.sources:
             source = scenario.source(name)
-            what = f"{source.kind}, budget {format_relative(source.budget)}"
-        if loop := loop_text(evaluation, name):
-            what += f"  {loop}"
-        node = branch.add(
-            Text.assemble(
-                (name, "bold"),
-                "  ",
-                (format_hz(evaluation.clocks[name]), "cyan"),
-                "  ",
-                (what, "dim" if name in plan.sources else ""),
-            )
+            details = listed([source.kind, f"budget {format_relative(source.budget)}"])
+            details = tuple(Text(phrase.plain, style="dim") for phrase in details)
+        phrases = (
+            Text(name, style="bold"),
+            Text.assemble("  ", (format_hz(evaluation.clocks[name]), "cyan")),
+            *_spaced(details, "  "),
+            *_spaced(listed(loop_text(evaluation, name).split(", ")), "  "),
         )
+        node = branch.add(Phrases((phrases,)))
         for child in graph.successors(name):
             if plan.mux_input(child) in (None, name):
                 grow(node, child)
@@ -104,27 +113,33 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
     return root
 
 
-def _rate_line(check: RateCheck, plan: Plan) -> Text:
+def _spaced(phrases: tuple[Text, ...], gap: str) -> tuple[Text, ...]:
+    """Phrases whose first (when not empty) follows what comes before after ``gap``."""
+    if not phrases or not phrases[0].plain:
+        return ()
+    return (Text(gap) + phrases[0], *phrases[1:])
+
+
+def _rate_phrases(check: RateCheck, plan: Plan) -> Phrases:
+    """A rate's verdict, label, achieved value and settings, then its figures below."""
     requirement = check.requirement
     if requirement.ceiling:
         figures = (
-            f"\nlimit {limit_text(check)}: with the budget at most "
-            f"{format_share(check.share)} of it "
-            f"({format_relative(check.worst_case, signed=True)})"
+            Text(f"limit {limit_text(check)}:"),
+            Text(f" with the budget at most {format_share(check.share)} of it"),
+            Text(f" ({format_relative(check.worst_case, signed=True)})"),
         )
     else:
         figures = (
-            f"\nerror {format_relative(check.error, signed=True)}, worst "
-            f"{format_relative(check.worst_case)} of {limit_text(check)} "
-            f"({format_share(check.share)} used), "
-            f"margin {format_relative(check.margin, signed=True)}"
+            Text(f"error {format_relative(check.error, signed=True)},"),
+            Text(f" worst {format_relative(check.worst_case)} of {limit_text(check)}"),
+            Text(f" ({format_share(check.share)} used),"),
+            Text(f" margin {format_relative(check.margin, signed=True)}"),
         )
-    return Text.assemble(
-        verdict_text(rate_verdict(check)),
-        " ",
-        (requirement.label, "bold"),
-        "  got ",
-        (format_rate(check.achieved, requirement.unit), "cyan"),
-        (f"  {rate_setting_text(check, plan)}", "dim"),
-        figures,
+    settings = listed(rate_setting_text(check, plan).split(", "))
+    what = (
+        Text.assemble(verdict_text(rate_verdict(check)), " ", (requirement.label, "bold")),
+        Text.assemble("  got ", (format_rate(check.achieved, requirement.unit), "cyan")),
+        *(Text(phrase.plain, style="dim") for phrase in _spaced(settings, "  ")),
     )
+    return Phrases((what, figures))

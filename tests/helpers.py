@@ -17,9 +17,11 @@ import pytest
 
 from clockplan.cli import main
 from clockplan.evaluate import Evaluation, evaluate_plan
-from clockplan.plan import Plan, SettingValue
+from clockplan.peripherals.base import largest
+from clockplan.plan import Plan, SettingValue, divider_key, mux_key, pll_keys
 from clockplan.result import RankedPlan, SearchResult, Stage, Status
 from clockplan.scenario import Scenario, parse_scenario
+from clockplan.settle import settle_settings
 
 BOARDS = Path(__file__).parent / "boards"
 """Small boards of our own that several test modules use, one TOML file each."""
@@ -150,3 +152,26 @@ def run_cli(capsys: pytest.CaptureFixture[str], *argv: str) -> tuple[int, str, s
     status = main(list(argv))
     captured = capsys.readouterr()
     return status, captured.out, captured.err
+
+
+def sketch_ranked(scenario: Scenario) -> RankedPlan:
+    """A plan for any board without a search, to exercise the views on every board: each
+    oscillator at its first candidate, each clock setting at its largest value (the longest
+    text), a mux on its first input and every rate settled for the clocks that result. It
+    may break limits; the views draw it all the same."""
+    settings: dict[str, SettingValue] = {}
+    for pll in scenario.plls:
+        reference, multiplier, fraction = pll_keys(pll.name)
+        settings[reference] = largest(pll.reference_divider)
+        settings[multiplier] = largest(pll.multiplier)
+        if pll.fraction_bits:
+            settings[fraction] = 2**pll.fraction_bits - 1
+    for divider in scenario.dividers:
+        settings[divider_key(divider.name)] = largest(divider.divide)
+    for mux in scenario.muxes:
+        settings[mux_key(mux.name)] = mux.inputs[0]
+    sources = {source.name: source.candidates[0] for source in scenario.sources}
+    clocks_only = evaluate_plan(scenario, Plan(sources, settings))
+    settings |= settle_settings(scenario, clocks_only.clocks, clocks_only.roots)
+    plan = Plan(sources, settings)
+    return RankedPlan(1, plan, evaluate_plan(scenario, plan), Status.FEASIBLE, (), dict(sources))

@@ -13,22 +13,36 @@ import io
 import os
 import re
 from collections.abc import Callable
+from dataclasses import replace
 from fractions import Fraction
 from pathlib import Path
 
 import pytest
 from rich.console import Console, RenderableType
 
+from clockplan.compare import Side, plan_changes
 from clockplan.plan import Plan
 from clockplan.render import (
     budget_table,
+    changes_table,
     explanation_text,
     ranking_table,
     rates_table,
+    sides_text,
     status_line,
 )
 from clockplan.result import Explanation, Relaxation, Stage, Status
-from tests.helpers import bench_ranked, board, ranked_by_hand, result_of
+from clockplan.treeview import legend, plan_tree
+from tests.helpers import (
+    BENCH_SETTINGS,
+    BENCH_SOURCES,
+    bench_ranked,
+    board,
+    board_text,
+    ranked_by_hand,
+    result_of,
+    scenario_from,
+)
 
 RENDERED = Path(__file__).parent / "rendered"
 WIDTHS = (80, 120)
@@ -75,6 +89,37 @@ def bench_result(**fields):
     return result_of(scenario, ranked, **fields)
 
 
+def desk_sides() -> tuple[Side, Side]:
+    """The desk clock's two plans, as ``clockplan diff`` compares ranks 1 and 2."""
+    result = desk_result()
+    return Side(result.scenario, result.plans[0]), Side(result.scenario, result.plans[1])
+
+
+def long_named_sides() -> tuple[Side, Side]:
+    """The desk clock's two plans with the console renamed long enough that the table of
+    changes is too wide for 80 columns side by side."""
+    name = "rear_panel_service_console"
+    text = board_text("desk_clock").replace("peripherals.console", f"peripherals.{name}")
+    scenario = scenario_from(text, "desk_clock.toml")
+    sides = []
+    for rank, plan in enumerate(DESK_PLANS, start=1):
+        settings = {key.replace("console.", f"{name}."): v for key, v in plan.settings.items()}
+        sides.append(Side(scenario, ranked_by_hand(scenario, Plan(plan.sources, settings), rank)))
+    return sides[0], sides[1]
+
+
+def bench_sides() -> tuple[Side, Side]:
+    """The bench plan against one with the mux switched and the loop's fraction changed,
+    read from a file with a long name, as the closest plan of a board with no plan."""
+    scenario, ranked = bench_ranked()
+    other = Plan(
+        dict(BENCH_SOURCES),
+        {**BENCH_SETTINGS, "sd_clock.input": "usb_clock", "audio_pll.fraction": 5},
+    )
+    far = replace(scenario, file="boards/revisions/bench-rig-with-the-second-loop-filter.toml")
+    return Side(scenario, ranked), Side(far, ranked_by_hand(far, other), closest=True)
+
+
 EXPLANATION = Explanation(
     conflict=("usb: 48 MHz within 500 ppm", "system VCO at most 400 MHz"),
     minimal=False,
@@ -106,6 +151,16 @@ CASES: dict[str, Callable[[], RenderableType]] = {
     ),
     "explanation": lambda: explanation_text(EXPLANATION),
     "explanation-empty": lambda: explanation_text(Explanation((), True, ())),
+    "tree-desk": lambda: plan_tree(board("desk_clock"), desk_result().plans[0]),
+    "tree-bench": lambda: plan_tree(*bench_ranked()),
+    "legend": legend,
+    "sides-desk": lambda: sides_text(*desk_sides()),
+    "sides-bench": lambda: sides_text(*bench_sides()),
+    "changes-desk": lambda: changes_table(*desk_sides(), plan_changes(*desk_sides())),
+    "changes-bench": lambda: changes_table(*bench_sides(), plan_changes(*bench_sides())),
+    "changes-long-names": lambda: changes_table(
+        *long_named_sides(), plan_changes(*long_named_sides())
+    ),
 }
 
 
@@ -146,7 +201,7 @@ def test_the_hand_built_desk_plans_evaluate_as_the_tables_say():
 
 
 def test_the_width_changes_the_wide_tables():
-    for case in ("ranking-desk", "rates-desk", "budget-desk"):
+    for case in ("ranking-desk", "rates-desk", "budget-desk", "changes-long-names"):
         narrow, wide = (rendered(CASES[case](), width) for width in WIDTHS)
         assert narrow != wide, case
         assert max(map(len, narrow.splitlines())) <= 80
@@ -161,3 +216,13 @@ CUT = re.compile(r"…(?! ?(?:[kMG]?Hz|Bd|[kM]?bit/s|ppm|%))")
 def test_nothing_is_cut_with_an_ellipsis_at_80_columns(case):
     text = rendered(CASES[case](), 80)
     assert not CUT.search(text), text
+
+
+BROKEN_FIGURE = re.compile(r"(?:=|\bof|\bgot|\berror|\bworst|\bmargin|\blimit|\bsum of) *$")
+"""A line that ends where a figure should follow: a phrase broken in two."""
+
+
+@pytest.mark.parametrize("case", sorted(CASES))
+def test_no_figure_is_parted_from_its_name_at_80_columns(case):
+    for line in rendered(CASES[case](), 80).splitlines():
+        assert not BROKEN_FIGURE.search(line), line

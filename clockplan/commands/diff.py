@@ -20,10 +20,9 @@ from clockplan.compare import Side, plan_changes
 from clockplan.errors import InputError
 from clockplan.exits import Exit
 from clockplan.export import changes_to_data
-from clockplan.render import changes_table
+from clockplan.render import changes_table, sides_text
 from clockplan.result import SearchResult, Status
 from clockplan.solve.search import DEFAULT_TIME_LIMIT, DEFAULT_WORKERS
-from clockplan.text_safety import printable
 
 
 def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) -> None:
@@ -108,17 +107,7 @@ def run(args: argparse.Namespace) -> int:
         print(json.dumps(document, indent=2))
         return Exit.OK
     console = Console()
-    for label, side in (("A", a), ("B", b)):
-        which = (
-            "no plan meets every allowance (proved); its closest plan"
-            if side.closest
-            else f"rank {side.ranked.rank}"
-        )
-        for line in (
-            f"{label}: {side.scenario.title} ({side.scenario.file})",
-            f"   {which}, {side.ranked.status.value}",
-        ):
-            console.print(printable(line), markup=False, highlight=False, soft_wrap=True)
+    console.print(sides_text(a, b))
     if changes:
         console.print(changes_table(a, b, changes))
     else:

@@ -14,6 +14,7 @@ from collections.abc import Callable
 from pathlib import Path
 
 from rich.console import Console
+from rich.text import Text
 
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.drawing import plan_svg
@@ -23,6 +24,7 @@ from clockplan.export import plan_to_data, result_to_data
 from clockplan.files import check_target, write_atomic
 from clockplan.graphs import dot_text, graphml_text, plan_graph
 from clockplan.header import header_text
+from clockplan.phrases import Phrases
 from clockplan.render import status_line
 from clockplan.report import report_text
 from clockplan.result import RankedPlan, SearchResult, Status
@@ -117,7 +119,8 @@ def run(args: argparse.Namespace) -> int:
             if result.status is Status.INFEASIBLE
             else "the time limit came before any plan"
         )
-        notes.print(f"No plan to show; {why}. Nothing written.", style="bold red", markup=False)
+        sentences = (Text(f"No plan to show; {why}."), Text(" Nothing written."))
+        notes.print(Phrases((sentences,)), style="bold red")
         return Exit.NO_PLAN
     if len(result.plans) < args.rank:
         raise InputError("--rank", f"{args.rank}: the search ranked only {len(result.plans)} plans")
