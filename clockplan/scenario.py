@@ -12,13 +12,15 @@ import os
 import re
 import stat
 import tomllib
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field
 from fractions import Fraction
 from functools import cached_property
 from importlib import resources
 from pathlib import Path
 
 from clockplan._fields import Fields, hint
+from clockplan._frozen import FrozenDict, frozen
 from clockplan.catalog import catalog_frequencies
 from clockplan.circuits import parse_circuit_quantity
 from clockplan.errors import ArgumentTypeError, ScenarioError
@@ -40,6 +42,7 @@ from clockplan.quantities import (
     parse_temperature_range,
     ratio_up,
 )
+from clockplan.registers import Encoding, read_register, requirement_values
 from clockplan.sources import (
     SOURCE_KINDS,
     TUNING_FORK_COEFFICIENT_PPM,
@@ -153,6 +156,8 @@ class Scenario:
     """The goals in ranking order, most important first (every one of RANKING_GOALS): the
     worst share of an allowance, the cost of the oscillators in use, the clocks marked
     "fastest", the rates under a ceiling."""
+    registers: Mapping[str, Mapping[str, Encoding]] = field(default_factory=FrozenDict)
+    """How the chip's registers encode settings, by node name and field (``register`` keys)."""
 
     def __post_init__(self) -> None:
         """Check a scenario built by hand as the loader checks a file, so that the search
@@ -313,16 +318,52 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     conditions = _read_conditions(top)
     _count_candidate_ranges(top)
     candidates = _Budget(MAX_CANDIDATES, CANDIDATES_TOGETHER)
-    sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions, candidates))
+    registers: dict[str, Mapping[str, Encoding]] = {}
+    read_source = lambda f, n: _read_source(f, n, conditions, candidates)  # noqa: E731
+    sources = _read_section(top, "sources", read_source, registers)
     if not sources:
         raise top.error("sources", "is missing; a scenario needs at least one oscillator")
-    plls = _read_section(top, "plls", _read_pll)
-    dividers = _read_section(top, "dividers", _read_divider)
-    muxes = _read_section(top, "muxes", _read_mux)
+    plls = _read_section(top, "plls", _read_pll, registers)
+    dividers = _read_section(top, "dividers", _read_divider, registers)
+    muxes = _read_section(top, "muxes", _read_mux, registers)
     rates = _Budget(MAX_RATES, "the peripherals ask for {} rates together")
-    peripherals = _read_section(top, "peripherals", lambda f, n: _read_peripheral(f, n, rates))
+    read = lambda f, n: _read_peripheral(f, n, rates)  # noqa: E731
+    peripherals = _read_section(top, "peripherals", read, registers)
     top.finish()
-    return Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by)
+    return Scenario(
+        title,
+        file,
+        conditions,
+        sources,
+        plls,
+        dividers,
+        muxes,
+        peripherals,
+        rank_by,
+        frozen(registers),
+    )
+
+
+def _register_values(node: Node) -> dict[str, tuple[Divisors, ...]]:
+    """The settings of a node a ``register`` table may name, each with its allowed values."""
+    if isinstance(node, Pll):
+        fraction = {"fraction": (range(2**node.fraction_bits),)} if node.fraction_bits else {}
+        return {
+            "reference_divider": (node.reference_divider,),
+            "multiplier": (node.multiplier,),
+            **fraction,
+        }
+    if isinstance(node, Divider):
+        return {"divide": (node.divide,)}
+    if isinstance(node, Mux):
+        return {"input": (range(len(node.inputs)),)}
+    if isinstance(node, Peripheral):
+        values: dict[str, tuple[Divisors, ...]] = {}
+        for requirement in node.requirements:
+            for name, sets in requirement_values(requirement).items():
+                values[name] = tuple(dict.fromkeys((*values.get(name, ()), *sets)))
+        return values
+    return {}
 
 
 class _Budget:
@@ -362,7 +403,8 @@ def _ranking(value: object) -> tuple[str, ...]:
     return (*goals, *(goal for goal in RANKING_GOALS if goal not in goals))
 
 
-def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-def]
+def _read_section(top: Fields, section: str, read, found: dict):  # type: ignore[no-untyped-def]
+    """The items of one section; their ``register`` tables go into ``found`` by name."""
     if not top.has(section):
         top.take(section, dict, {})
         return ()
@@ -379,6 +421,8 @@ def _read_section(top: Fields, section: str, read):  # type: ignore[no-untyped-d
             raise table.error(name, f"is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
         fields = table.sub(name)
         items.append(read(fields, name))
+        if registers := read_register(fields, _register_values(items[-1])):
+            found[name] = registers
         fields.finish()
     table.finish()
     return tuple(items)
