@@ -413,3 +413,57 @@ def test_two_settings_with_one_c_name_are_refused():
     ranked = RankedPlan(1, plan, evaluation, Status.OPTIMAL, (), dict(plan.sources))
     with pytest.raises(ClockplanError, match="'fast.divide' and 'FAST.divide'.*FAST_DIVIDE"):
         header_text(scenario, ranked)
+
+
+def test_register_tables_are_read_per_node():
+    assert register_board().registers == {
+        "system": {
+            "reference_divider": Encoding("minus-one"),
+            "multiplier": Encoding("value"),
+            "fraction": Encoding("value"),
+        },
+        "quarter": {"divide": Encoding("log2")},
+        "pick": {"input": Encoding("table", {0: 6, 1: 2})},
+        "field_bus": {
+            "prescaler": Encoding("minus-one"),
+            "phase2": Encoding("minus-one"),
+            "sjw": Encoding("table", {1: 0, 2: 1, 3: 2, 4: 3}),
+        },
+        "scheduler": {"reload": Encoding("minus-one")},
+    }
+
+
+@pytest.mark.parametrize(
+    ("table", "line", "message"),
+    [
+        (
+            "[peripherals.console]",
+            'register = { divide = "value" }',
+            "peripherals.console.register.divide: is not a known key here; did you mean 'divisor'?",
+        ),
+        (
+            "[peripherals.scheduler]",
+            'register = { reloads = "minus-one" }',
+            "peripherals.scheduler.register.reloads: is not a known key here; "
+            "did you mean 'reload'?",
+        ),
+        (
+            "[peripherals.field_bus]",
+            'register = { phase_2 = "minus-one" }',
+            "peripherals.field_bus.register.phase_2: is not a known key here; "
+            "did you mean 'phase2'?",
+        ),
+        (
+            "[dividers.can_clock]",
+            "register = { divide = { 4 = 1 } }",
+            "dividers.can_clock.register.divide: 5 has no code in the table (it lists 4), "
+            "yet the search may choose 5; narrow the allowed values or change the encoding",
+        ),
+    ],
+)
+def test_a_peripheral_names_its_own_register_fields(table, line, message):
+    plain = re.sub(r"\nregister = \{ (prescaler|reload)[^\n]*", "", REGISTER_BOARD)
+    text = plain.replace(f"{table}\n", f"{table}\n{line}\n", 1)
+    with pytest.raises(ScenarioError) as caught:
+        scenario_from(text, "registers.toml")
+    assert str(caught.value) == f"registers.toml: {message}"
