@@ -32,6 +32,7 @@ __all__ = [
     "UnencodableError",
     "PLAIN",
     "read_register",
+    "first_unencodable",
     "requirement_values",
     "held_fields",
     "HeldField",
