@@ -96,14 +96,12 @@ PLAIN = Encoding()
 
 
 def read_register(fields: Fields, values: Mapping[str, tuple[Divisors, ...]]) -> FrozenDict:
-    """The node's ``register`` table: an Encoding per field it names (``{}`` without one).
+    """The node's ``register`` table: an Encoding per field it names.
 
     ``values`` gives each field the node has and every set of values the search may choose
     for it; a field name it lacks gets "did you mean", and a value its encoding cannot hold
     is refused here, before any search.
     """
-    if not fields.has("register"):
-        return frozen({})
     if not values:
         raise fields.error("register", "this node has no settings for a register to hold")
     table = fields.sub("register")
@@ -220,7 +218,7 @@ def held_fields(
         keys = [(requirement.stage_setting(name), name) for name, _ in requirement.stages]
         return [HeldField(key, name, int(settings[key])) for key, name in keys]
     whole, steps = divmod(held * requirement.numerator, requirement.numerator)
-    if steps.denominator != 1 or (requirement.numerator == 1 and held.denominator != 1):
+    if steps.denominator != 1:
         raise UnencodableError(f"{base}: the divisor {held} is not a whole number of steps")
     if option.settings:
         timing = [
@@ -230,13 +228,12 @@ def held_fields(
         ]
         return [HeldField(f"{base}.prescaler", "prescaler", int(whole), option.label), *timing]
     if requirement.numerator > 1:
-        steps_per_whole = requirement.numerator
-        parts = f"divisor {shown} = {whole} + {steps}/{steps_per_whole}"
+        fraction = f"{steps}/{requirement.numerator}"
         return [
-            HeldField(f"{base}.whole", "divisor", int(whole), parts),
             HeldField(
-                f"{base}.fraction", "fraction", int(steps), f"{steps}/{requirement.numerator}"
+                f"{base}.whole", "divisor", int(whole), f"divisor {shown} = {whole} + {fraction}"
             ),
+            HeldField(f"{base}.fraction", "fraction", int(steps), fraction),
         ]
     return [HeldField(base, "divisor", int(whole))]
 

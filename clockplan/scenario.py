@@ -421,8 +421,8 @@ def _read_section(top: Fields, section: str, read, found: dict):  # type: ignore
             raise table.error(name, f"is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
         fields = table.sub(name)
         items.append(read(fields, name))
-        if registers := read_register(fields, _register_values(items[-1])):
-            found[name] = registers
+        if fields.has("register"):
+            found[name] = read_register(fields, _register_values(items[-1]))
         fields.finish()
     table.finish()
     return tuple(items)
