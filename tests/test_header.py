@@ -17,7 +17,7 @@ from clockplan.plan import Plan
 from clockplan.registers import Encoding, UnencodableError
 from clockplan.result import RankedPlan, Status
 from clockplan.scenario import load_scenario
-from tests.helpers import bench_ranked, ranked_by_hand, scenario_from
+from tests.helpers import bench_ranked, ranked_by_hand, run_cli, scenario_from
 
 SCENARIOS = Path(__file__).parent.parent / "scenarios"
 
@@ -467,3 +467,17 @@ def test_a_peripheral_names_its_own_register_fields(table, line, message):
     with pytest.raises(ScenarioError) as caught:
         scenario_from(text, "registers.toml")
     assert str(caught.value) == f"registers.toml: {message}"
+
+
+def test_show_writes_the_same_header_bytes_from_two_folders(tmp_path, capsys):
+    headers = []
+    for folder in ("one", "two/deeper"):
+        board_path = tmp_path / folder / "registers.toml"
+        board_path.parent.mkdir(parents=True)
+        board_path.write_text(REGISTER_BOARD, encoding="utf-8")
+        target = tmp_path / folder / "clock_settings.h"
+        status, _, err = run_cli(capsys, "show", str(board_path), "--header", str(target))
+        assert (status, err) == (0, "")
+        headers.append(target.read_bytes())
+    assert headers[0] == headers[1]
+    assert b"/* From file registers.toml, plan rank 1 (optimal). */" in headers[0]
