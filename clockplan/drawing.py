@@ -101,7 +101,9 @@ def _line_width(line: tuple[_Span, ...]) -> float:
 
 def _clock_lines(name: str, data: dict[str, Any]) -> tuple[tuple[_Span, ...], ...]:
     """A clock's name and frequency, then its setting (an oscillator's kind), then its loop."""
-    lines = [(_Span(name, _INK, bold=True), _Span(data["frequency"], _FREQUENCY))]
+    lines: list[tuple[_Span, ...]] = [
+        (_Span(name, _INK, bold=True), _Span(data["frequency"], _FREQUENCY))
+    ]
     detail = data.get("kind", "") if data["role"] == "source" else data["setting"]
     lines += [(_Span(text, _GREY),) for text in (detail, data.get("loop", "")) if text]
     return tuple(lines)
@@ -109,7 +111,9 @@ def _clock_lines(name: str, data: dict[str, Any]) -> tuple[tuple[_Span, ...], ..
 
 def _peripheral_lines(name: str, data: dict[str, Any]) -> tuple[tuple[_Span, ...], ...]:
     """A peripheral's name and kind, then one line per rate with its figures and verdict."""
-    lines = [(_Span(name, _INK, bold=True), _Span(f"({data['kind']})", _GREY))]
+    lines: list[tuple[_Span, ...]] = [
+        (_Span(name, _INK, bold=True), _Span(f"({data['kind']})", _GREY))
+    ]
     for index in range(1, data["rates"] + 1):
         verdict = data[f"rate{index}_verdict"]
         share = data[f"rate{index}_share"] * 100

@@ -1,24 +1,30 @@
-"""A C header of one plan's settings, for the firmware build.
+"""A register-ready C header of one plan's settings, for the firmware build.
 
-Every setting becomes ``#define PREFIX_<NODE>_<SETTING> value`` (``CLOCKPLAN_CORE_DIVIDE``);
-a mux's choice is the input's index with the input's name in a comment; every
-clock's frequency is a comment and, where it is a whole number of hertz, an
-integer constant ``PREFIX_<NODE>_HZ``. Names come from the scenario's own node
-names, made into C identifiers; two settings that would share a name are refused.
+Every register field becomes ``#define PREFIX_<NODE>_<SETTING> field``: the value the
+register holds, encoded as the scenario's ``register`` table says (the plain value then
+in a comment). A peripheral's divisor is written as the peripheral holds it, never
+multiplied by an oversampling: a fractional divisor as its whole part and fraction
+(``..._WHOLE``, ``..._FRACTION``), a bit timing as prescaler and segments, a timer as its
+stages; a mux's choice is the input's index. Every clock gets ``PREFIX_<NODE>_HZ``, or
+``..._HZ_NUMERATOR`` and ``..._HZ_DENOMINATOR`` when it is not a whole number of hertz.
+Names come from the scenario's own node names, made into C identifiers; two settings that
+would share a name are refused.
 """
 
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 from fractions import Fraction
 
 from clockplan import __version__
-from clockplan.errors import ClockplanError
+from clockplan.errors import ClockplanError, ScenarioError
 from clockplan.evaluate import RateCheck
-from clockplan.plan import node_settings
+from clockplan.plan import Plan, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
+from clockplan.registers import PLAIN, HeldField, UnencodableError, held_fields
 from clockplan.result import RankedPlan
-from clockplan.scenario import Mux, Scenario
+from clockplan.scenario import Divider, Mux, Node, Pll, Scenario
 from clockplan.text import (
     exact_decimal,
     format_rate,
@@ -30,7 +36,7 @@ from clockplan.text import (
 )
 from clockplan.text_safety import printable
 
-__all__ = ["DEFAULT_PREFIX", "c_identifier", "header_text"]
+__all__ = ["DEFAULT_PREFIX", "c_identifier", "file_name", "header_text"]
 
 DEFAULT_PREFIX = "CLOCKPLAN"
 UNSIGNED_LONG_MAX = 2**32 - 1
@@ -61,13 +67,17 @@ def _integer_literal(value: int) -> str:
 
 
 def header_text(scenario: Scenario, ranked: RankedPlan, *, prefix: str = DEFAULT_PREFIX) -> str:
-    """The header for ``ranked``: include guard, settings, frequencies, provenance comment."""
+    """The header for ``ranked``: include guard, register fields, frequencies, provenance.
+
+    It names the scenario by its file name only, so one plan gives the same bytes on every
+    machine.
+    """
     plan, evaluation = ranked.plan, ranked.evaluation
     guard = c_identifier(prefix, "CLOCK_SETTINGS_H")
     lines = [
         f"/* Clock settings made by clockplan {__version__}; do not edit by hand. */",
         f"/* Scenario: {_comment(scenario.title)} */",
-        f"/* From file {_comment(scenario.file)}, "
+        f"/* From file {_comment(file_name(scenario.file))}, "
         f"plan rank {ranked.rank} ({ranked.status.value}). */",
         "/* Check the crystal's and the chip's datasheets (load capacitance, drive level, */",
         "/* start-up margin) and prototype before production. */",
@@ -86,41 +96,74 @@ def header_text(scenario: Scenario, ranked: RankedPlan, *, prefix: str = DEFAULT
         defines[name] = key
         lines.append(f"#define {name} {value}" + (f" /* {_comment(comment)} */" if comment else ""))
 
+    def field(node: str, held: HeldField) -> None:
+        encoding = scenario.registers.get(node, {}).get(held.name, PLAIN)
+        try:
+            encoded = encoding.encode(held.value)
+        except UnencodableError as error:
+            key = f"{_section(scenario, node)}.{node}.register.{held.name}"
+            raise ScenarioError(scenario.file, key, f"{error} (plan rank {ranked.rank})") from None
+        comment = "; ".join(part for part in (encoding.describe(held.value), held.note) if part)
+        define(c_identifier(prefix, held.key), str(encoded), comment, held.key)
+
     for name in scenario.clock_names:
-        clock = scenario.node(name)
         hz = evaluation.clocks[name]
         lines.append(f"/* {_comment(name)}: {_comment(_frequency_comment(hz))} */")
-        for setting, value in node_settings(plan, name).items():
-            key = f"{name}.{setting}"
-            if isinstance(clock, Mux):
-                index = clock.inputs.index(str(value))
-                inputs = ", ".join(f"{i} {n}" for i, n in enumerate(clock.inputs))
-                define(c_identifier(prefix, key), str(index), f"{value} (inputs: {inputs})", key)
-            else:
-                define(c_identifier(prefix, key), str(value), "", key)
+        for held in _node_fields(scenario.node(name), plan):
+            field(name, held)
         if hz.denominator == 1:
             define(c_identifier(prefix, name, "HZ"), _integer_literal(hz.numerator), "", name)
+        else:
+            for part, value in (("NUMERATOR", hz.numerator), ("DENOMINATOR", hz.denominator)):
+                define(c_identifier(prefix, name, "HZ", part), _integer_literal(value), "", name)
         lines.append("")
     for check in evaluation.checks:
         requirement = check.requirement
         lines.append(f"/* {_comment(requirement.peripheral)} {_comment(_rate_comment(check))} */")
-        for key, value in rate_settings(check, plan).items():
-            scale = requirement.divisor_scale * check.option.factor
-            if key == requirement.option_setting:
-                define(c_identifier(prefix, key), str(value), check.option.label, key)
-            elif key == requirement.setting and scale != 1:
-                held = exact_decimal(register_value(check))
-                scale_name = c_identifier(prefix, key, "SCALE")
-                define(c_identifier(prefix, key), str(value), f"{held} after / {scale_name}", key)
-                define(scale_name, str(scale), "", key)
-            else:
-                define(c_identifier(prefix, key), str(value), "", key)
-        for name, value in check.option.settings:
-            key = f"{requirement.setting}.{name}"
-            define(c_identifier(prefix, key), str(value), "fixed by the chosen option", key)
+        settings = rate_settings(check, plan)
+        divisor = register_value(check)
+        shown = exact_decimal(divisor)
+        for held in held_fields(requirement, check.option, settings, divisor, shown):
+            field(requirement.peripheral, held)
         lines.append("")
     lines.append(f"#endif /* {guard} */")
     return "\n".join(lines) + "\n"
+
+
+def file_name(path: str) -> str:
+    """The last part of a path written with either separator: no machine's folders."""
+    return re.split(r"[\\/]", path)[-1]
+
+
+def _section(scenario: Scenario, name: str) -> str:
+    """The scenario section a clock or peripheral is written in, for a located error."""
+    node = scenario.node(name)
+    sections = {Pll: "plls", Divider: "dividers", Mux: "muxes"}
+    return next((key for kind, key in sections.items() if isinstance(node, kind)), "peripherals")
+
+
+def _node_fields(node: Node, plan: Plan) -> list[HeldField]:
+    """A clock node's settings as register fields: a mux's choice as its input's index."""
+    settings = node_settings(plan, node.name)
+    if isinstance(node, Mux):
+        inputs = ", ".join(f"{i} {n}" for i, n in enumerate(node.inputs))
+        return [
+            HeldField(
+                f"{node.name}.{key}",
+                key,
+                node.inputs.index(str(chosen)),
+                f"{chosen} (inputs: {inputs})",
+            )
+            for key, chosen in settings.items()
+        ]
+    fields = [HeldField(f"{node.name}.{key}", key, int(value)) for key, value in settings.items()]
+    if isinstance(node, Pll) and node.fraction_bits:
+        steps = 2**node.fraction_bits
+        fields = [
+            replace(held, note=f"{held.value}/{steps}") if held.name == "fraction" else held
+            for held in fields
+        ]
+    return fields
 
 
 def _rate_comment(check: RateCheck) -> str:

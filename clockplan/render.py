@@ -99,7 +99,7 @@ def status_line(result: SearchResult) -> Phrases:
     if result.interrupted:
         words = "stopped by Ctrl-C: the best plans found so far, not proved"
     style = {"optimal": "bold green", "feasible": "yellow"}.get(result.status.value, "bold red")
-    lines = [
+    lines: list[tuple[Text, ...]] = [
         (Text.assemble(("Status: ", "bold"), (words, style)), Text(f"   {result.elapsed:.2f} s"))
     ]
     cut = [ranked for ranked in result.plans if ranked.unproved]

@@ -12,8 +12,8 @@ import os
 import re
 import stat
 import tomllib
-from collections.abc import Callable
-from dataclasses import dataclass
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
 from fractions import Fraction
 from functools import cached_property
 from importlib import resources
@@ -21,6 +21,7 @@ from pathlib import Path
 from typing import TypeVar
 
 from clockplan._fields import Fields, hint
+from clockplan._frozen import FrozenDict, frozen
 from clockplan.catalog import catalog_frequencies
 from clockplan.errors import ArgumentTypeError, ScenarioError
 from clockplan.peripherals import Peripheral, read_peripheral
@@ -43,6 +44,7 @@ from clockplan.quantities import (
     parse_temperature_range,
     ratio_up,
 )
+from clockplan.registers import Encoding, read_register, requirement_values
 from clockplan.sources import (
     SOURCE_KINDS,
     TUNING_FORK_COEFFICIENT_PPM,
@@ -58,7 +60,7 @@ from clockplan.sources import (
 from clockplan.text_safety import quoted
 from clockplan.topology import check_structure
 
-Item = TypeVar("Item")
+Item = TypeVar("Item", bound="Node")
 """One entry of a scenario section: a source, a PLL, a divider, a mux or a peripheral."""
 
 __all__ = [
@@ -159,6 +161,8 @@ class Scenario:
     """The goals in ranking order, most important first (every one of RANKING_GOALS): the
     worst share of an allowance, the cost of the oscillators in use, the clocks marked
     "fastest", the rates under a ceiling."""
+    registers: Mapping[str, Mapping[str, Encoding]] = field(default_factory=FrozenDict)
+    """How the chip's registers encode settings, by node name and field (``register`` keys)."""
 
     def __post_init__(self) -> None:
         """Check a scenario built by hand as the loader checks a file, so that the search
@@ -319,16 +323,52 @@ def parse_scenario(text: str, file: str = "<scenario>") -> Scenario:
     conditions = _read_conditions(top)
     _count_candidate_ranges(top)
     candidates = _Budget(MAX_CANDIDATES, CANDIDATES_TOGETHER)
-    sources = _read_section(top, "sources", lambda f, n: _read_source(f, n, conditions, candidates))
+    registers: dict[str, Mapping[str, Encoding]] = {}
+    read_source = lambda f, n: _read_source(f, n, conditions, candidates)  # noqa: E731
+    sources = _read_section(top, "sources", read_source, registers)
     if not sources:
         raise top.error("sources", "is missing; a scenario needs at least one oscillator")
-    plls = _read_section(top, "plls", _read_pll)
-    dividers = _read_section(top, "dividers", _read_divider)
-    muxes = _read_section(top, "muxes", _read_mux)
+    plls = _read_section(top, "plls", _read_pll, registers)
+    dividers = _read_section(top, "dividers", _read_divider, registers)
+    muxes = _read_section(top, "muxes", _read_mux, registers)
     rates = _Budget(MAX_RATES, "the peripherals ask for {} rates together")
-    peripherals = _read_section(top, "peripherals", lambda f, n: _read_peripheral(f, n, rates))
+    read = lambda f, n: _read_peripheral(f, n, rates)  # noqa: E731
+    peripherals = _read_section(top, "peripherals", read, registers)
     top.finish()
-    return Scenario(title, file, conditions, sources, plls, dividers, muxes, peripherals, rank_by)
+    return Scenario(
+        title,
+        file,
+        conditions,
+        sources,
+        plls,
+        dividers,
+        muxes,
+        peripherals,
+        rank_by,
+        frozen(registers),
+    )
+
+
+def _register_values(node: Node) -> dict[str, tuple[Divisors, ...]]:
+    """The settings of a node a ``register`` table may name, each with its allowed values."""
+    if isinstance(node, Pll):
+        fraction = {"fraction": (range(2**node.fraction_bits),)} if node.fraction_bits else {}
+        return {
+            "reference_divider": (node.reference_divider,),
+            "multiplier": (node.multiplier,),
+            **fraction,
+        }
+    if isinstance(node, Divider):
+        return {"divide": (node.divide,)}
+    if isinstance(node, Mux):
+        return {"input": (range(len(node.inputs)),)}
+    if isinstance(node, Peripheral):
+        values: dict[str, tuple[Divisors, ...]] = {}
+        for requirement in node.requirements:
+            for name, sets in requirement_values(requirement).items():
+                values[name] = tuple(dict.fromkeys((*values.get(name, ()), *sets)))
+        return values
+    return {}
 
 
 class _Budget:
@@ -369,8 +409,12 @@ def _ranking(value: object) -> tuple[str, ...]:
 
 
 def _read_section(
-    top: Fields, section: str, read: Callable[[Fields, str], Item]
+    top: Fields,
+    section: str,
+    read: Callable[[Fields, str], Item],
+    found: dict[str, Mapping[str, Encoding]],
 ) -> tuple[Item, ...]:
+    """The items of one section; their ``register`` tables go into ``found`` by name."""
     if not top.has(section):
         top.take(section, dict, {})
         return ()
@@ -387,6 +431,8 @@ def _read_section(
             raise table.error(name, f"is {len(name)} characters long; at most {MAX_NAME_LENGTH}")
         fields = table.sub(name)
         items.append(read(fields, name))
+        if fields.has("register"):
+            found[name] = read_register(fields, _register_values(items[-1]))
         fields.finish()
     table.finish()
     return tuple(items)

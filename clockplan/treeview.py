@@ -123,6 +123,7 @@ def _spaced(phrases: tuple[Text, ...], gap: str) -> tuple[Text, ...]:
 def _rate_phrases(check: RateCheck, plan: Plan) -> Phrases:
     """A rate's verdict, label, achieved value and settings, then its figures below."""
     requirement = check.requirement
+    figures: tuple[Text, ...]
     if requirement.ceiling:
         figures = (
             Text(f"limit {limit_text(check)}:"),

@@ -306,13 +306,16 @@ reference_divider = [1, 2, 4]
 multiplier = "8..64"
 fraction_bits = 8
 vco = "200 MHz .. 600 MHz"
+register = { reference_divider = { 1 = 0, 2 = 1, 4 = 2 }, multiplier = "minus-one" }
 [dividers.radio_clock]
 from = "synth"
 divide = "1..16"
 min = "20 MHz"
 max = "60 MHz"
+register = { divide = "minus-one" }
 [muxes.system]
 from = ["radio_clock", "backup"]
+register = { input = "value" }
 [peripherals.radio]
 kind = "clock"
 from = "radio_clock"
@@ -324,6 +327,7 @@ from = "system"
 baud = 1000000
 oversampling = 8
 divisor = [1, 2, 3, 4, 5, 6, 7, 8]
+register = { divisor = "minus-one" }
 """
 
 BUS_BOARD = """
@@ -356,10 +360,13 @@ mode = "fast"
 kind = "can"
 from = "bus"
 bitrate = 500000
+register = { prescaler = "minus-one", sjw = "minus-one" }
 [peripherals.scheduler]
 kind = "timer"
 from = "bus"
 rate = "1 kHz"
+prescaler = "pow2 0..10"
+register = { prescaler = "log2", reload = "minus-one" }
 [peripherals.speaker]
 kind = "audio"
 from = "audio_reference"
