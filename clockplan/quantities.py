@@ -123,7 +123,7 @@ _EXAMPLES: dict[Dimension, str] = {
     "voltage": '"1 V"',
     "inductance": '"10 uH"',
     "temperature": '"25 °C"',
-    "time": '"32 s"',
+    "time": '"60 s"',
 }
 
 _NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
@@ -480,7 +480,7 @@ def parse_whole(text: str, *, minimum: int, maximum: int) -> int:
 
 
 def parse_cycles(text: str, *, limit: int) -> int | None:
-    """Read a count of cycles, ``"1048576 cycles"`` or ``"2**20 cycles"``; None when the text
+    """Read a count of cycles, ``"1966080 cycles"`` or ``"2**21 cycles"``; None when the text
     is not written in cycles (it may be a duration). A count above ``limit`` comes back as
     ``limit + 1``, so the caller refuses it in its own words without building a huge number."""
     match = _CYCLES.match(check_plain_text(text))

@@ -194,8 +194,10 @@ def test_tick_drift_for_20_ppm(capsys: pytest.CaptureFixture[str]) -> None:
 
 
 def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) -> None:
-    # Source: a microcontroller reference manual's RTC calibration (a 2**20-cycle, 32 s window,
-    # step about 0.954 ppm); by hand 32 s × 32 768 Hz = 2**20, step 0.95367431640625 ppm.
+    # Worked by hand (an example of our own, no default window): a 60 s window of a
+    # 32.768 kHz source holds 60 × 32 768 = 1 966 080 cycles, so one added or skipped
+    # cycle moves the rate by 10^6 / 1 966 080 = 0.508626302083… ppm; +12.3 ppm is
+    # 24.18 steps, cancelled best by skipping 24.
     _, out, _ = run_cli(
         capsys,
         "tick",
@@ -206,15 +208,15 @@ def test_tick_calibration_window_in_seconds(capsys: pytest.CaptureFixture[str]) 
         "--calibrate",
         "+12.3 ppm",
         "--window",
-        "32 s",
+        "60 s",
         "--max-steps",
         "511",
         "--json",
     )
     calibration = json.loads(out)["calibration"]
-    assert calibration["window_cycles"] == 2**20
-    assert calibration["step_ppm"] == 0.95367431640625
-    assert calibration["setting"]["action"] == "skip" and calibration["setting"]["steps"] == 13
+    assert calibration["window_cycles"] == 1_966_080
+    assert calibration["step_ppm"] == pytest.approx(0.508626302083333, rel=1e-12)
+    assert calibration["setting"]["action"] == "skip" and calibration["setting"]["steps"] == 24
 
 
 def test_tick_tuning_fork_at_45_c(capsys: pytest.CaptureFixture[str]) -> None:

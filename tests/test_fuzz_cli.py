@@ -145,7 +145,7 @@ OPTIONS: dict[str, dict[str, st.SearchStrategy[str] | None]] = {
         "--band": values("20 ppm", "200 %"),
         "--temperature": values("-20..70", "-20CC..70", "70..-20"),
         "--calibrate": values("5 ppm", "-3 ppm"),
-        "--window": values("2**20 cycles", "32 s", "1e99 s"),
+        "--window": values("2**21 cycles", "60 s", "1e99 s"),
         "--step-cycles": values("1", "2"),
         "--max-steps": values("0", "10"),
         "--json": FLAG,

@@ -100,7 +100,11 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     heat.add_argument("--temperature", metavar="LOW..HIGH", help="range in °C, e.g. -20..70")
     trim = parser.add_argument_group("calibration by adding or skipping cycles")
     trim.add_argument("--calibrate", metavar="PPM", help='measured offset, e.g. "+12.3 ppm"')
-    trim.add_argument("--window", metavar="LENGTH", help='"2**20 cycles" or "32 s"')
+    trim.add_argument(
+        "--window",
+        metavar="LENGTH",
+        help='a length of time or a count of source cycles: "60 s", "1966080 cycles"',
+    )
     trim.add_argument("--step-cycles", metavar="N", default="1", help="cycles per step (1)")
     trim.add_argument("--max-steps", metavar="N", help="most steps the calibration holds")
     parser.add_argument("--json", action="store_true", help="print machine-readable JSON")
@@ -239,7 +243,9 @@ def _calibration(
     """The calibration step, and the best setting when an offset was measured."""
     if options.window is None:
         if options.calibrate is not None or options.max_steps is not None:
-            raise InputError("--window", 'is needed for calibration, e.g. "2**20 cycles" or "32 s"')
+            raise InputError(
+                "--window", 'is needed for calibration, e.g. "60 s" or "1966080 cycles"'
+            )
         return None
     window = _window_cycles(options.window, source)
     steps = _whole(options.step_cycles, "--step-cycles", minimum=1)
@@ -278,11 +284,11 @@ def _window_cycles(text: str, source: Fraction) -> int:
 
 
 def _duration_seconds(text: str) -> Fraction:
-    """A window written as a duration ("32 s", "2 min"), in seconds."""
+    """A window written as a duration ("60 s", "2 min"), in seconds."""
     try:
         return parse_quantity(text, "time")
     except QuantityError:
-        expected = '"2**20 cycles", "1048576 cycles" or "32 s"'
+        expected = '"60 s", "1966080 cycles" or "2**21 cycles"'
         raise QuantityError(f"{quoted(text)} is not a window such as {expected}") from None
 
 
