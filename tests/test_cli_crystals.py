@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 import json
+import os
+import re
 from fractions import Fraction
+from pathlib import Path
 from typing import Any
 
 import pytest
@@ -232,3 +235,33 @@ def test_bad_input_is_one_line_and_exit_2(
     assert status == 2 and out == ""
     assert err.startswith(f"clockplan: {message}")
     assert err.count("\n") == 1
+
+
+RECORDED = Path(__file__).parent / "rendered"
+SCREENS = {
+    "crystals-uart": ("--baud", "9600,19200,38400,57600,115200", "--range", "1 MHz..25 MHz"),
+    "crystals-mixed": ("--baud", "115200", "--usb-full-speed", "--fs", "48k,44.1k", "--catalog"),
+    "crystals-pll": (
+        *("--baud", "115200", "--usb-full-speed", "--fs", "48k,44.1k", "--pll", "--catalog"),
+    ),
+}
+ELAPSED = re.compile(r"\(\d+\.\d\d s\)")
+
+
+@pytest.mark.parametrize("width", [80, 120])
+@pytest.mark.parametrize("screen", sorted(SCREENS))
+def test_the_screen_is_exactly_as_recorded(
+    screen: str, width: int, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # The ranking spreads its rate columns over several tables when the terminal is narrow,
+    # so no number is folded or cut (CLOCKPLAN_WRITE_RENDERED=1 records the screens anew).
+    monkeypatch.setenv("COLUMNS", str(width))
+    status, out, _ = run_cli(capsys, "crystals", *SCREENS[screen], "--top", "3")
+    assert status == (0 if screen == "crystals-uart" else 1)  # 1: no candidate meets them all
+    text = ELAPSED.sub("(… s)", out)
+    assert max(map(len, text.splitlines())) <= width
+    assert "…" not in text.replace("(… s)", "")
+    path = RECORDED / f"{screen}-{width}.txt"
+    if os.environ.get("CLOCKPLAN_WRITE_RENDERED"):
+        path.write_text(text, encoding="utf-8")
+    assert text == path.read_text(encoding="utf-8")

@@ -12,7 +12,9 @@ from typing import Any, TypeVar
 
 from rich import box
 from rich.console import Console
+from rich.measure import Measurement
 from rich.table import Table
+from rich.text import Text
 
 from clockplan.catalog import catalog_frequencies
 from clockplan.crystals import (
@@ -33,6 +35,7 @@ from clockplan.crystals import (
 )
 from clockplan.errors import InputError
 from clockplan.peripherals.base import Divisors
+from clockplan.phrases import Phrases, listed
 from clockplan.quantities import (
     QuantityError,
     exact_string,
@@ -409,16 +412,18 @@ def _print_report(search: CrystalSearch, where: dict[str, Any], elapsed: float) 
     console = Console(highlight=False)
     names = ", ".join(target.label for target in search.targets)
     console.print(f"Oscillators for {names}")
-    console.print(f"  structure: {_structure_text(search)}")
+    parts = f"  structure: {_structure_text(search)}".split(", ")
+    console.print(Phrases((listed(parts),), hanging=2))
     console.print(f"  searched: {_where_text(search, where)} ({elapsed:.2f} s)")
-    console.print(f"  {_exact_summary(search)}")
+    console.print(_exact_summary(search))
     if search.without_setting:
         console.print(
             f"  no PLL setting takes {_plural(search.without_setting, 'candidate')} "
             "(PFD and VCO limits)"
         )
     if search.ranked:
-        console.print(_ranking_table(search))
+        for table in _ranking_tables(search, console):
+            console.print(table)
     else:
         console.print("  No candidate to rank.")
     console.print(_allowances_table(search))
@@ -428,20 +433,25 @@ def _plural(count: int, word: str) -> str:
     return f"{count:,} {word}{'' if count == 1 else 's'}".replace(",", " ")
 
 
-def _exact_summary(search: CrystalSearch) -> str:
-    """How many are exact, and the number theory behind it."""
+def _exact_summary(search: CrystalSearch) -> Phrases:
+    """How many are exact, and the number theory behind it, broken only between phrases."""
     multiple = search.exact_multiple
     count = _plural(search.exact_count, "candidate") if search.exact_count else "none"
     if search.pll is None:
-        text = f"exact for every rate: {count}; an exact oscillator must be a multiple of "
+        must = "an exact oscillator must be a multiple of"
         top = _largest_candidate(search.candidates)
     else:
-        text = f"exact for every rate: {count}; an exact VCO must be a multiple of "
+        must = "an exact VCO must be a multiple of"
         top = search.pll.vco[1]
-    text += f"{format_hz(multiple)} (the lcm of the divided clocks)"
+    phrases = [
+        f"  exact for every rate: {count};",
+        f" {must} {format_hz(multiple)}",
+        " (the lcm of the divided clocks)",
+    ]
     if multiple > top:
-        text += f", above {format_hz(top)}"
-    return text
+        phrases[-1] += ","
+        phrases.append(f" above {format_hz(top)}")
+    return Phrases((tuple(Text(phrase) for phrase in phrases),), hanging=2)
 
 
 def _largest_candidate(candidates: Candidates) -> Fraction:
@@ -450,29 +460,103 @@ def _largest_candidate(candidates: Candidates) -> Fraction:
     return max(candidates)
 
 
-def _ranking_table(search: CrystalSearch) -> Table:
-    """One row per oscillator; per rate its divisor over its error."""
-    table = Table(box=box.SIMPLE, title="Ranked", title_justify="left")
-    table.add_column("#", justify="right")
-    table.add_column("oscillator", justify="right", no_wrap=True)
-    table.add_column("worst share", justify="right")
-    table.add_column("worst error", justify="right")
-    if search.pll is not None:
-        table.add_column("PLL")
-    for target in search.targets:
-        table.add_column(target.label, justify="right")
-    for rank, candidate in enumerate(search.ranked, start=1):
-        cells = [
-            str(rank),
-            format_hz(candidate.frequency),
-            "exact" if candidate.exact else f"{float(candidate.worst_share) * 100:.2f} %",
-            _error_text(candidate.worst.error),
-        ]
-        if search.pll is not None:
-            cells.append(_pll_text(candidate))
-        cells += [f"{_divisor_text(r)}\n{_error_text(r.error)}" for r in candidate.rates]
-        table.add_row(*cells)
-    return table
+def _ranking_tables(search: CrystalSearch, console: Console) -> list[Table]:
+    """The ranking in one table when the terminal is wide enough; else with the worst share
+    and error stacked, and the rate columns spread over as many tables as the width needs
+    (each repeating the rank and the oscillator), so that no number is folded or cut."""
+    ranking = _Ranking.of(search)
+    count = len(search.targets)
+    if _width(console, ranking.table(0, count, compact=False)) <= console.width:
+        return [ranking.table(0, count, compact=False)]
+    # The simple box puts one column beside the next: widths add up, so each rate column is
+    # measured once, alone.
+    fixed = _width(console, ranking.table(0, 0, compact=True))
+    columns = [
+        _width(console, ranking.table(index, index + 1, compact=True)) - fixed
+        for index in range(count)
+    ]
+    spans = _spans(columns, console.width - fixed)
+    tables = len(spans)
+    even = [(count * k // tables, count * (k + 1) // tables) for k in range(tables)]
+    if all(sum(columns[first:last]) <= console.width - fixed for first, last in even):
+        spans = even
+    return [ranking.table(first, last, compact=True) for first, last in spans]
+
+
+def _spans(columns: list[int], room: int) -> list[tuple[int, int]]:
+    """The columns cut greedily into runs, each as long as ``room`` holds (at least one)."""
+    spans: list[tuple[int, int]] = []
+    first = 0
+    while first < len(columns):
+        last, used = first + 1, columns[first]
+        while last < len(columns) and used + columns[last] <= room:
+            used += columns[last]
+            last += 1
+        spans.append((first, last))
+        first = last
+    return spans
+
+
+def _width(console: Console, table: Table) -> int:
+    """How wide ``table`` wants to be, whatever the terminal's width."""
+    return Measurement.get(console, console.options.update(width=10_000), table).maximum
+
+
+@dataclass(frozen=True)
+class _Ranking:
+    """The ranking's cells, computed once, from which tables of any run of rates are cut."""
+
+    search: CrystalSearch
+    heads: tuple[tuple[str, str, str, str], ...]
+    """Per candidate: its rank, oscillator, worst share and worst error."""
+    loops: tuple[str, ...]
+    """Per candidate: its PLL setting (empty without a PLL)."""
+    rates: tuple[tuple[str, ...], ...]
+    """Per candidate, per rate: its divisor over its error."""
+
+    @classmethod
+    def of(cls, search: CrystalSearch) -> _Ranking:
+        heads, loops, rates = [], [], []
+        for rank, candidate in enumerate(search.ranked, start=1):
+            share = "exact" if candidate.exact else f"{float(candidate.worst_share) * 100:.2f} %"
+            error = _error_text(candidate.worst.error)
+            heads.append((str(rank), format_hz(candidate.frequency), share, error))
+            loops.append(_pll_text(candidate) if search.pll is not None else "")
+            rates.append(
+                tuple(f"{_divisor_text(r)}\n{_error_text(r.error)}" for r in candidate.rates)
+            )
+        return cls(search, tuple(heads), tuple(loops), tuple(rates))
+
+    def table(self, first: int, last: int, *, compact: bool) -> Table:
+        """One row per oscillator with the rates ``first`` to ``last``. Compact, the worst
+        share stands over the worst error in one column."""
+        targets = self.search.targets
+        count = len(targets)
+        if (first, last) == (0, count):
+            part = ""
+        elif last == first + 1:
+            part = f" (rate {last} of {count})"
+        else:
+            part = f" (rates {first + 1}–{last} of {count})"
+        table = Table(box=box.SIMPLE, title=f"Ranked{part}", title_justify="left")
+        table.add_column("#", justify="right")
+        table.add_column("oscillator", justify="right", no_wrap=True)
+        if compact:
+            table.add_column("worst share\nworst error", justify="right")
+        else:
+            table.add_column("worst share", justify="right")
+            table.add_column("worst error", justify="right")
+        if self.search.pll is not None:
+            table.add_column("PLL")
+        for target in targets[first:last]:
+            table.add_column(target.label.replace(" ", "\n", 1), justify="right")
+        for (rank, frequency, share, error), loop, rates in zip(
+            self.heads, self.loops, self.rates, strict=True
+        ):
+            cells = [rank, frequency, *([f"{share}\n{error}"] if compact else [share, error])]
+            cells += [loop] if self.search.pll is not None else []
+            table.add_row(*cells, *rates[first:last])
+        return table
 
 
 def _allowances_table(search: CrystalSearch) -> Table:
