@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -415,3 +416,33 @@ def test_crystals_divisor_list_is_the_scenario_list(capsys: pytest.CaptureFixtur
     argv = ["crystals", "--baud", "9600", "--divisor", "1,2,4", "--candidates", "1 MHz", "--json"]
     _, out, _ = run_cli(capsys, *argv)
     assert json.loads(out)["structure"]["divisor"] == "1,2,4"
+
+
+RECORDED = Path(__file__).parent / "rendered"
+SCREENS = {
+    "pierce": (
+        *("pierce", "--frequency", "16 MHz", "--load", "12 pF", "--stray", "3 pF"),
+        *("--shunt", "5 pF", "--motional", "7 fF", "--esr", "40 ohm", "--unequal"),
+    ),
+    "tick": (
+        *("tick", "--source", "40 kHz", "--window", "60 s", "--calibrate", "+3 ppm"),
+        *("--curve", "tuning-fork", "--temperature=-40..85"),
+    ),
+}
+
+
+@pytest.mark.parametrize("width", [80, 120])
+@pytest.mark.parametrize("screen", sorted(SCREENS))
+def test_the_screen_is_exactly_as_recorded(
+    screen: str, width: int, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # Every figure whole at 80 and 120 columns (CLOCKPLAN_WRITE_RENDERED=1 records anew).
+    monkeypatch.setenv("COLUMNS", str(width))
+    status, out, _ = run_cli(capsys, *SCREENS[screen])
+    assert status == 0
+    assert max(map(len, out.splitlines())) <= width
+    assert "…" not in out
+    path = RECORDED / f"{screen}-{width}.txt"
+    if os.environ.get("CLOCKPLAN_WRITE_RENDERED"):
+        path.write_text(out, encoding="utf-8")
+    assert out == path.read_text(encoding="utf-8")
