@@ -237,7 +237,7 @@ def test_bad_input_is_one_line_and_exit_2(
     assert err.count("\n") == 1
 
 
-RECORDED = Path(__file__).parent / "rendered"
+RECORDED = Path(__file__).parent / "rendered" / "commands"
 SCREENS = {
     "crystals-uart": ("--baud", "9600,19200,38400,57600,115200", "--range", "1 MHz..25 MHz"),
     "crystals-mixed": ("--baud", "115200", "--usb-full-speed", "--fs", "48k,44.1k", "--catalog"),

@@ -418,7 +418,7 @@ def test_crystals_divisor_list_is_the_scenario_list(capsys: pytest.CaptureFixtur
     assert json.loads(out)["structure"]["divisor"] == "1,2,4"
 
 
-RECORDED = Path(__file__).parent / "rendered"
+RECORDED = Path(__file__).parent / "rendered" / "commands"
 SCREENS = {
     "pierce": (
         *("pierce", "--frequency", "16 MHz", "--load", "12 pF", "--stray", "3 pF"),
