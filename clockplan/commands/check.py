@@ -13,7 +13,7 @@ from rich.console import Console
 
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.errors import InputError
-from clockplan.exits import Exit, search_exit
+from clockplan.exits import Exit
 from clockplan.export import explanation_to_data, plan_to_data
 from clockplan.quantities import format_hz
 from clockplan.render import explanation_text
@@ -39,7 +39,7 @@ def run(args: argparse.Namespace) -> int:
     if args.top < 1:  # check ranks one plan, but a bad --top is still a mistake to report
         raise InputError("--top", f"{args.top} is not a positive count of plans")
     result = run_search(SearchOptions.of(args, top=1), show_progress=False, explain=True)
-    verdict = search_exit(result)
+    verdict = result.exit_status
     best = result.plans[0] if result.plans else None
     if args.json:
         data = {

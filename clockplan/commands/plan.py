@@ -8,7 +8,6 @@ import json
 from rich.console import Console
 
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
-from clockplan.exits import search_exit
 from clockplan.export import result_to_data
 from clockplan.render import (
     budget_table,
@@ -39,7 +38,7 @@ def run(args: argparse.Namespace) -> int:
     result = run_search(SearchOptions.of(args), show_progress=not args.json, explain=True)
     if args.json:
         print(json.dumps(result_to_data(result), indent=2))
-        return search_exit(result)
+        return result.exit_status
     console = Console()
     console.print(status_line(result))
     if result.plans:
@@ -50,4 +49,4 @@ def run(args: argparse.Namespace) -> int:
         console.print(explanation_text(result.explanation))
     elif not result.interrupted:
         console.print("The time limit stopped the search before any plan.", style="bold red")
-    return search_exit(result)
+    return result.exit_status
