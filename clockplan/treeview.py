@@ -24,7 +24,6 @@ from clockplan.text import (
     FAIL,
     format_rate,
     format_share,
-    limit_text,
     loop_text,
     rate_setting_text,
     rate_verdict,
@@ -106,19 +105,6 @@ def plan_tree(scenario: Scenario, ranked: RankedPlan) -> Tree:
 
 def _rate_line(check: RateCheck, plan: Plan) -> Text:
     requirement = check.requirement
-    if requirement.ceiling:
-        figures = (
-            f"\nlimit {limit_text(check)}: with the budget at most "
-            f"{format_share(check.share)} of it "
-            f"({format_relative(check.worst_case, signed=True)})"
-        )
-    else:
-        figures = (
-            f"\nerror {format_relative(check.error, signed=True)}, worst "
-            f"{format_relative(check.worst_case)} of {limit_text(check)} "
-            f"({format_share(check.share)} used), "
-            f"margin {format_relative(check.margin, signed=True)}"
-        )
     return Text.assemble(
         verdict_text(rate_verdict(check)),
         " ",
@@ -126,5 +112,5 @@ def _rate_line(check: RateCheck, plan: Plan) -> Text:
         "  got ",
         (format_rate(check.achieved, requirement.unit), "cyan"),
         (f"  {rate_setting_text(check, plan)}", "dim"),
-        figures,
+        f"\n{check.standing_text()}",
     )
