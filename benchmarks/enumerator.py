@@ -53,7 +53,15 @@ import numpy as np
 
 from clockplan.errors import ModelTooLargeError
 from clockplan.evaluate import Evaluation, evaluate_plan
-from clockplan.peripherals.base import Divisors, Requirement
+from clockplan.peripherals.base import (
+    CeilingRate,
+    Divisors,
+    Option,
+    Options,
+    Requirement,
+    Stages,
+    ToleranceRate,
+)
 from clockplan.plan import Plan, SettingValue, pll_keys
 from clockplan.scenario import Scenario
 from clockplan.topology import evaluation_order
@@ -152,9 +160,9 @@ def raw_combinations(scenario: Scenario) -> int:
 
 
 def _divisor_count(requirement: Requirement) -> int:
-    if requirement.stages:
-        return math.prod(len(values) for _, values in requirement.stages)
-    sets = [option.divisors for option in requirement.choices]
+    if isinstance(requirement.divisor, Stages):
+        return math.prod(len(values) for values in requirement.divisor.value_sets)
+    sets = list(requirement.divisor.value_sets)
     if len(sets) == 1:
         return len(sets[0])
     if all(isinstance(values, range) and values.step == 1 for values in sets):
@@ -439,30 +447,37 @@ class _Rate:
 
     requirement: Requirement
     node: str
-    ways: list[tuple[_Axis | _Stages, float]]
-    """Each option's divisors with its allowance (a float)."""
+    ways: list[tuple[_Axis | _Stages, Option]]
+    """Each option's divisors, with the option."""
 
     @staticmethod
     def of(requirement: Requirement, node: str) -> _Rate:
-        if requirement.stages:
-            ways: list[tuple[_Axis | _Stages, float]] = [
-                (_Stages(requirement.stages), float(requirement.allowance))
-            ]
-        else:
-            ways = [
-                (_Axis.of(option.divisors), float(option.allowance))
-                for option in requirement.choices
-            ]
+        match requirement.divisor:
+            case Stages(stages):
+                ways: list[tuple[_Axis | _Stages, Option]] = [
+                    (_Stages(stages), requirement.divisor.options[0])
+                ]
+            case Options(options):
+                ways = [(_Axis.of(option.divisors), option) for option in options]
         return _Rate(requirement, node, ways)
 
     def keys(self, input_clock: np.ndarray, budget: np.ndarray | float) -> np.ndarray:
         """A lower bound of the rate's exact key per row; +inf where no divisor can serve."""
         requirement = self.requirement
-        ideal = input_clock * (requirement.numerator / float(requirement.target))
-        if requirement.ceiling:
-            return self._ceiling(ideal, input_clock, budget)
-        best = np.full(input_clock.shape, np.inf)
-        for divisors, allowance in self.ways:
+        ideal = input_clock * (requirement.numerator / float(requirement.nominal))
+        match requirement:
+            case CeilingRate():
+                return self._ceiling(requirement, ideal, input_clock, budget)
+            case ToleranceRate():
+                return self._tolerance(requirement, ideal, budget)
+
+    def _tolerance(
+        self, requirement: ToleranceRate, ideal: np.ndarray, budget: np.ndarray | float
+    ) -> np.ndarray:
+        """The least key any divisor of any option reaches within its allowance."""
+        best = np.full(ideal.shape, np.inf)
+        for divisors, option in self.ways:
+            allowance = float(requirement.allowance_of(option))
             for divisor in divisors.bracket(ideal):
                 signed = ideal / divisor - 1
                 error = np.maximum(np.abs(signed) - FLOAT_SLACK, 0)
@@ -477,10 +492,13 @@ class _Rate:
         return best
 
     def _ceiling(
-        self, ideal: np.ndarray, input_clock: np.ndarray, budget: np.ndarray | float
+        self,
+        requirement: CeilingRate,
+        ideal: np.ndarray,
+        input_clock: np.ndarray,
+        budget: np.ndarray | float,
     ) -> np.ndarray:
         """0 where some divisor may keep the rate under the maximum (and over the floor)."""
-        requirement = self.requirement
         fits = np.zeros(input_clock.shape, dtype=bool)
         for divisors, _ in self.ways:
             divisor = divisors.at_least(ideal * (1 + budget) * (1 - FLOAT_SLACK))
@@ -822,7 +840,7 @@ def exact_key(evaluation: Evaluation) -> int:
     """The plan's key: the largest rate key (see :func:`rate_key`)."""
     key = 0
     for check in evaluation.checks:
-        if check.requirement.ceiling:
+        if check.allowance is None or not check.requirement.ranked_by_share:
             continue
         key = max(key, rate_key(check.error, check.source_budget, check.allowance))
     return key
@@ -835,35 +853,46 @@ def _exact_divisor(
     stages: _Stages | None,
 ) -> dict[str, SettingValue] | None:
     """Settings of the requirement's best divisor (the fastest, for a ceiling); None if none."""
-    ideal = input_clock * requirement.numerator / requirement.target
+    ideal = input_clock * requirement.numerator / requirement.nominal
     best: tuple[tuple[Fraction, ...], dict[str, SettingValue]] | None = None
-    for position, option in enumerate(requirement.choices):
+    for position, option in enumerate(requirement.options):
         ways = _exact_candidates(requirement, option.divisors, ideal, budget, stages)
         for divisor, stage_values in ways:
             rate = requirement.achieved(input_clock, divisor)
-            if requirement.ceiling:
-                fits = rate * (1 + budget) <= requirement.target and (
-                    requirement.floor is None or rate * (1 - budget) >= requirement.floor
-                )
-                rank: tuple[Fraction, ...] = (Fraction(divisor),)
-            else:
-                error = rate / requirement.target - 1
-                worst = abs(error) + budget * (1 + error)
-                fits = worst <= option.allowance
-                key = rate_key(error, budget, option.allowance)
-                rank = (Fraction(key), worst / option.allowance)
-            if not fits or (best is not None and rank >= best[0]):
+            fitted = _exact_rank(requirement, option, rate, budget, divisor)
+            if fitted is None or (best is not None and fitted >= best[0]):
                 continue
             settings: dict[str, SettingValue] = {}
-            if requirement.stages:
-                for (name, _), value in zip(requirement.stages, stage_values, strict=True):
-                    settings[requirement.stage_setting(name)] = value
-            else:
-                settings[requirement.setting] = divisor
-                if len(requirement.choices) > 1:
-                    settings[requirement.option_setting] = position
-            best = (rank, settings)
+            match requirement.divisor:
+                case Stages(stages=named):
+                    for (name, _), value in zip(named, stage_values, strict=True):
+                        settings[requirement.stage_setting(name)] = value
+                case Options(options):
+                    settings[requirement.setting] = divisor
+                    if len(options) > 1:
+                        settings[requirement.option_setting] = position
+            best = (fitted, settings)
     return None if best is None else best[1]
+
+
+def _exact_rank(
+    requirement: Requirement, option: Option, rate: Fraction, budget: Fraction, divisor: int
+) -> tuple[Fraction, ...] | None:
+    """How good one divisor is (smaller is better), or None when it misses the limit: the
+    key and the exact share for a tolerance, the divisor itself (fastest first) for a ceiling."""
+    match requirement:
+        case CeilingRate(maximum=maximum, floor=floor):
+            fits = rate * (1 + budget) <= maximum and (
+                floor is None or rate * (1 - budget) >= floor
+            )
+            return (Fraction(divisor),) if fits else None
+        case ToleranceRate():
+            allowance = requirement.allowance_of(option)
+            error = rate / requirement.target - 1
+            worst = abs(error) + budget * (1 + error)
+            if worst > allowance:
+                return None
+            return (Fraction(rate_key(error, budget, allowance)), worst / allowance)
 
 
 def _exact_candidates(
@@ -874,7 +903,7 @@ def _exact_candidates(
     stages: _Stages | None,
 ) -> list[_Factored]:
     """Divisors worth trying: nearest below and above the ideal (for a ceiling: the fastest)."""
-    if requirement.ceiling:
+    if isinstance(requirement, CeilingRate):
         wanted = ideal * (1 + budget)
         if stages is not None:
             found = stages.nearest(wanted)[1]

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from fractions import Fraction
 
 from clockplan._frozen import frozen
-from clockplan.peripherals.base import Option, Requirement, smallest
+from clockplan.peripherals.base import Option, Options, Requirement, Stages, smallest
 from clockplan.plan import Plan, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz
 from clockplan.scenario import Divider, Mux, Pll, Scenario
@@ -42,22 +42,20 @@ class RateCheck:
     """The way the rate is made (its divisors and allowance)."""
 
     @property
-    def allowance(self) -> Fraction:
-        """Largest worst-case relative error allowed with the chosen option."""
-        return self.option.allowance
+    def allowance(self) -> Fraction | None:
+        """Largest worst-case relative error allowed with the chosen option (None: a maximum)."""
+        return self.requirement.allowance_of(self.option)
 
     @property
     def error(self) -> Fraction:
         """Synthesis error: achieved / target − 1, exact (for a ceiling: below the maximum)."""
-        return self.achieved / self.requirement.target - 1
+        return self.requirement.error(self.achieved)
 
     @property
     def worst_case(self) -> Fraction:
-        """The largest deviation the source's budget b can push the rate to: (1 + e)(1 ± b) − 1
-        at its largest, |e| + b·(1 + e); for a ceiling, the fastest rate it reaches."""
-        if self.requirement.ceiling:
-            return self.achieved * (1 + self.source_budget) / self.requirement.target - 1
-        return abs(self.error) + self.source_budget * (1 + self.error)
+        """The largest deviation the source's budget can push the rate to (for a ceiling, the
+        fastest rate it reaches, relative to the maximum)."""
+        return self.requirement.worst_case(self.achieved, self.source_budget)
 
     @property
     def worst_case_rss(self) -> float:
@@ -68,26 +66,44 @@ class RateCheck:
     @property
     def share(self) -> Fraction:
         """Worst case as a share of the allowance (for a ceiling: of the maximum); above 1 fails."""
-        if self.requirement.ceiling:
-            return self.achieved * (1 + self.source_budget) / self.requirement.target
-        return self.worst_case / self.allowance
+        return self.requirement.share(self.achieved, self.source_budget, self.option)
 
     @property
     def margin(self) -> Fraction:
         """Room left: allowance − worst case, or for a ceiling how far below the maximum."""
-        if self.requirement.ceiling:
-            return -self.worst_case
-        return self.allowance - self.worst_case
+        return self.requirement.margin(self.achieved, self.source_budget, self.option)
 
     @property
     def passes(self) -> bool:
         """Whether the worst case fits inside the allowance (or the window, for a ceiling)."""
-        requirement = self.requirement
-        if requirement.ceiling:
-            slowest = self.achieved * (1 - self.source_budget)
-            above_floor = requirement.floor is None or slowest >= requirement.floor
-            return self.share <= 1 and above_floor
-        return self.worst_case <= self.allowance
+        return self.requirement.passes(self.achieved, self.source_budget, self.option)
+
+    @property
+    def at_risk(self) -> bool:
+        """Whether it passes with so little room left that it deserves a second look."""
+        return self.passes and self.requirement.at_risk(self.share)
+
+    @property
+    def limit_text(self) -> str:
+        """What the rate must meet, in words: its allowance, or ``"≤ 25 MHz"``."""
+        return self.requirement.limit_text(self.option)
+
+    @property
+    def worst_case_text(self) -> str:
+        """The worst case as the tables print it (signed for a ceiling)."""
+        return self.requirement.worst_case_text(self.worst_case)
+
+    def standing_text(self, *, brief: bool = False) -> str:
+        """Where the rate stands against its limit, in one clause."""
+        return self.requirement.standing_text(
+            self.achieved, self.source_budget, self.option, brief=brief
+        )
+
+    def standing_phrases(self, *, brief: bool = False) -> tuple[str, ...]:
+        """The same clause cut into phrases that a narrow view may put on separate lines."""
+        return self.requirement.standing_phrases(
+            self.achieved, self.source_budget, self.option, brief=brief
+        )
 
 
 @dataclass(frozen=True)
@@ -111,9 +127,10 @@ class Evaluation:
 
     @property
     def worst(self) -> RateCheck | None:
-        """The tolerance check with the largest share of its allowance (first one on ties)."""
-        tolerances = [check for check in self.checks if not check.requirement.ceiling]
-        return max(tolerances, key=lambda check: check.share, default=None)
+        """The check with the largest share of its allowance among the rates ranked by share
+        (no ceiling: those are ranked by speed), the first one on ties."""
+        ranked = [check for check in self.checks if check.requirement.ranked_by_share]
+        return max(ranked, key=lambda check: check.share, default=None)
 
     @property
     def worst_share(self) -> Fraction:
@@ -176,13 +193,7 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
         source = scenario.source(roots[peripheral.clock])
         for requirement in peripheral.requirements:
             option = _option(plan, requirement, violations)
-            if requirement.stages:
-                divisor = math.prod(
-                    _setting(plan, requirement.stage_setting(name), values, violations)
-                    for name, values in requirement.stages
-                )
-            else:
-                divisor = _setting(plan, requirement.setting, option.divisors, violations)
+            divisor = _divisor(plan, requirement, option, violations)
             achieved = requirement.achieved(input_clock, divisor)
             checks.append(
                 RateCheck(
@@ -199,8 +210,21 @@ def evaluate_plan(scenario: Scenario, plan: Plan) -> Evaluation:
     return Evaluation(clocks, roots, tuple(checks), tuple(violations), detectors)
 
 
+def _divisor(plan: Plan, requirement: Requirement, option: Option, violations: list[str]) -> int:
+    """The rate's divisor as the plan sets it: the chosen option's value, or the product of
+    the stages."""
+    match requirement.divisor:
+        case Stages(stages):
+            return math.prod(
+                _setting(plan, requirement.stage_setting(name), values, violations)
+                for name, values in stages
+            )
+        case Options():
+            return _setting(plan, requirement.setting, option.divisors, violations)
+
+
 def _option(plan: Plan, requirement: Requirement, violations: list[str]) -> Option:
-    choices = requirement.choices
+    choices = requirement.options
     if len(choices) == 1:
         return choices[0]
     index = _setting(plan, requirement.option_setting, range(len(choices)), violations)

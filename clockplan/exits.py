@@ -1,12 +1,14 @@
-"""The exit statuses of every command, and the one rule that picks a search's status."""
+"""The exit statuses of every command, in one enum.
+
+It imports nothing of clockplan's, so the console entry point can hold it before its
+Ctrl-C guard; the rule that picks a search's status is ``SearchResult.exit_status``.
+"""
 
 from __future__ import annotations
 
 from enum import IntEnum
 
-from clockplan.result import SearchResult, Status
-
-__all__ = ["Exit", "search_exit"]
+__all__ = ["Exit"]
 
 
 class Exit(IntEnum):
@@ -24,14 +26,3 @@ class Exit(IntEnum):
     """A fault in clockplan itself (never the input's), reported in one line."""
     INTERRUPTED = 130
     """Ctrl-C: the plans found until then were printed."""
-
-
-def search_exit(result: SearchResult) -> Exit:
-    """The exit status of a search: interrupted, no plan (proved), not proved, or done."""
-    if result.interrupted:
-        return Exit.INTERRUPTED
-    if result.status is Status.INFEASIBLE:
-        return Exit.NO_PLAN
-    if not result.plans or not result.proved:
-        return Exit.NOT_PROVED
-    return Exit.OK if result.plans[0].evaluation.feasible else Exit.NO_PLAN

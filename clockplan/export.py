@@ -12,6 +12,7 @@ from typing import Any
 
 from clockplan.compare import Change, Side
 from clockplan.evaluate import RateCheck
+from clockplan.peripherals.base import CeilingRate, Requirement
 from clockplan.quantities import exact_string
 from clockplan.result import Explanation, RankedPlan, SearchResult
 
@@ -116,24 +117,33 @@ def check_to_data(check: RateCheck) -> dict[str, Any]:
         "setting": requirement.setting,
         "divisor": check.divisor,
         "input_hz": exact_string(check.input_clock),
-        "target_hz": exact_string(requirement.target),
+        "target_hz": exact_string(requirement.nominal),
         "achieved_hz": exact_string(check.achieved),
         "error_ppm": _ppm(check.error),
         "source": check.source,
         "source_budget_ppm": _ppm(check.source_budget),
         "worst_case_ppm": _ppm(check.worst_case),
         "worst_case_rss_ppm": round(check.worst_case_rss * 1e6, 6),
-        "allowance_ppm": None if requirement.ceiling else _ppm(check.allowance),
+        "allowance_ppm": None if check.allowance is None else _ppm(check.allowance),
         "option": check.option.label or None,
         "option_settings": dict(check.option.settings),
-        "ceiling": requirement.ceiling,
-        "floor_hz": exact_string(requirement.floor) if requirement.floor is not None else None,
+        "ceiling": isinstance(requirement, CeilingRate),
+        "floor_hz": _floor(requirement),
         "allowance_basis": requirement.allowance_basis,
         "margin_ppm": _ppm(check.margin),
         "unit": requirement.unit,
         "share": round(float(check.share), 9),
         "passes": check.passes,
     }
+
+
+def _floor(requirement: Requirement) -> str | None:
+    """The slowest a ceiling rate may be, exact; None without one (or for a tolerance)."""
+    match requirement:
+        case CeilingRate(floor=Fraction() as floor):
+            return exact_string(floor)
+        case _:
+            return None
 
 
 def _ppm(value: Fraction) -> float:

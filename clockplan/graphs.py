@@ -16,6 +16,7 @@ import networkx as nx
 
 from clockplan.evaluate import RateCheck
 from clockplan.peripherals import Peripheral
+from clockplan.peripherals.base import CeilingRate
 from clockplan.plan import Plan, node_settings
 from clockplan.quantities import exact_string, format_hz, format_relative
 from clockplan.result import RankedPlan
@@ -110,12 +111,12 @@ def _peripheral_attributes(
         figures: dict[str, Any] = {
             "label": requirement.label,
             "unit": requirement.unit,
-            "target_hz": exact_string(requirement.target),
+            "target_hz": exact_string(requirement.nominal),
             "achieved_hz": exact_string(check.achieved),
             "achieved": format_rate(check.achieved, requirement.unit),
             "setting": rate_setting_text(check, plan),
             "option": check.option.label,
-            "ceiling": requirement.ceiling,
+            "ceiling": isinstance(requirement, CeilingRate),
             "limit": limit_text(check),
             "error_ppm": float(check.error * 10**6),
             "worst_case_ppm": float(check.worst_case * 10**6),
@@ -124,7 +125,7 @@ def _peripheral_attributes(
             "share": float(check.share),
             "verdict": rate_verdict(check),
         }
-        if not requirement.ceiling:
+        if check.allowance is not None:
             figures["allowance_ppm"] = float(check.allowance * 10**6)
         attributes.update({f"rate{index}_{key}": value for key, value in figures.items()})
         lines.append(

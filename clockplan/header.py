@@ -21,15 +21,13 @@ from clockplan import __version__
 from clockplan.errors import ClockplanError, ScenarioError
 from clockplan.evaluate import RateCheck
 from clockplan.plan import Plan, node_settings
-from clockplan.quantities import exact_string, format_hz, format_relative
+from clockplan.quantities import exact_string, format_hz
 from clockplan.registers import PLAIN, HeldField, UnencodableError, held_fields
 from clockplan.result import RankedPlan
 from clockplan.scenario import Divider, Mux, Node, Pll, Scenario
 from clockplan.text import (
     exact_decimal,
     format_rate,
-    format_share,
-    limit_text,
     rate_settings,
     rate_verdict,
     register_value,
@@ -172,16 +170,8 @@ def _rate_comment(check: RateCheck) -> str:
     achieved = (
         f"{format_rate(check.achieved, requirement.unit)} ({exact_string(check.achieved)} {unit})"
     )
-    if requirement.ceiling:
-        return (
-            f"{requirement.label}: {achieved}, limit {limit_text(check)}: with the budget at "
-            f"most {format_share(check.share)} of it, {rate_verdict(check)}"
-        )
-    return (
-        f"{requirement.label}: {achieved}, error {format_relative(check.error, signed=True)}, "
-        f"worst case {format_relative(check.worst_case)} of {limit_text(check)} allowed, "
-        f"{rate_verdict(check)}"
-    )
+    standing = check.standing_text(brief=True)
+    return f"{requirement.label}: {achieved}, {standing}, {rate_verdict(check)}"
 
 
 def _frequency_comment(hz: Fraction) -> str:

@@ -21,7 +21,7 @@ from fractions import Fraction
 from clockplan._fields import Fields, hint
 from clockplan._frozen import FrozenDict, frozen
 from clockplan.errors import ClockplanError
-from clockplan.peripherals.base import Divisors, Option, Requirement, smallest
+from clockplan.peripherals.base import Divisors, Option, Requirement, Stages, smallest
 from clockplan.plan import SettingValue
 from clockplan.quantities import QuantityError
 from clockplan.text_safety import quoted
@@ -187,11 +187,12 @@ class HeldField:
 
 def requirement_values(requirement: Requirement) -> dict[str, tuple[Divisors, ...]]:
     """Every field a requirement's register holds, with the values the search may choose."""
-    if requirement.stages:
-        return {name: (values,) for name, values in requirement.stages}
+    divisor = requirement.divisor
+    if isinstance(divisor, Stages):
+        return {name: (values,) for name, values in divisor.stages}
     fields: dict[str, tuple[Divisors, ...]] = {}
-    for option in requirement.choices:
-        held = _divided(option.divisors, requirement.divisor_scale * option.factor)
+    for option in divisor.options:
+        held = _divided(option.divisors, option.factor)
         if option.settings:
             fields["prescaler"] = (*fields.get("prescaler", ()), held)
             for name, value in option.settings:
@@ -216,8 +217,9 @@ def held_fields(
     ``shown`` as people read it) as a prescaler and bit-timing segments, as a whole part and
     a fraction, or as it is."""
     base = requirement.setting
-    if requirement.stages:
-        keys = [(requirement.stage_setting(name), name) for name, _ in requirement.stages]
+    if isinstance(requirement.divisor, Stages):
+        stages = requirement.divisor.stages
+        keys = [(requirement.stage_setting(name), name) for name, _ in stages]
         return [HeldField(key, name, int(settings[key])) for key, name in keys]
     whole, steps = divmod(held * requirement.numerator, requirement.numerator)
     if steps.denominator != 1:

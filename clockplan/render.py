@@ -292,7 +292,7 @@ def _rate_cells(check: RateCheck) -> list[str | Text]:
         label,
         format_rate(check.achieved, requirement.unit),
         format_relative(check.error, signed=True),
-        format_relative(check.worst_case, signed=requirement.ceiling),
+        check.worst_case_text,
         limit_text(check),
         share_text(check.share),
         mark,

@@ -13,6 +13,7 @@ from fractions import Fraction
 
 from clockplan._frozen import frozen
 from clockplan.evaluate import Evaluation
+from clockplan.exits import Exit
 from clockplan.plan import Plan
 from clockplan.scenario import Scenario
 
@@ -130,6 +131,17 @@ class SearchResult:
             and not self.interrupted
             and all(ranked.status is Status.OPTIMAL for ranked in self.plans)
         )
+
+    @property
+    def exit_status(self) -> Exit:
+        """The exit status of a search: interrupted, no plan (proved), not proved, or done."""
+        if self.interrupted:
+            return Exit.INTERRUPTED
+        if self.status is Status.INFEASIBLE:
+            return Exit.NO_PLAN
+        if not self.plans or not self.proved:
+            return Exit.NOT_PROVED
+        return Exit.OK if self.plans[0].evaluation.feasible else Exit.NO_PLAN
 
     @property
     def precision(self) -> int:

@@ -701,9 +701,7 @@ def _read_peripheral(fields: Fields, name: str, budget: _Budget) -> Peripheral:
     peripheral = read_peripheral(fields, name)
     budget.spend(len(peripheral.requirements), fields.file, fields.path)
     for requirement in peripheral.requirements:
-        sets = [option.divisors for option in requirement.choices]
-        sets += [values for _, values in requirement.stages]
-        widest = max(largest(values) for values in sets)
+        widest = max(largest(values) for values in requirement.divisor.value_sets)
         if widest > MAX_CHOICE:
             raise ScenarioError(
                 fields.file,

@@ -22,7 +22,15 @@ from fractions import Fraction
 
 import numpy as np
 
-from clockplan.peripherals.base import Divisors, Requirement, largest
+from clockplan.peripherals.base import (
+    CeilingRate,
+    Divisors,
+    Options,
+    Requirement,
+    Stages,
+    ToleranceRate,
+    largest,
+)
 from clockplan.plan import SettingValue
 from clockplan.scenario import Scenario
 
@@ -37,11 +45,11 @@ class RateSetting:
     """The settled own settings of one rate."""
 
     option: int
-    """Index of the chosen option in ``requirement.choices``."""
+    """Index of the chosen option in ``requirement.options``."""
     divisor: int
     """The whole divisor (the product of the stages, when the rate has stages)."""
     stages: tuple[int, ...] = ()
-    """Each stage's value, in the order of ``requirement.stages``."""
+    """Each stage's value, in the order of the divisor's stages (a product of stages only)."""
 
 
 def worst_case(error: Fraction, budget: Fraction) -> Fraction:
@@ -64,21 +72,24 @@ def settle_settings(
         budget = scenario.source(roots[peripheral.clock]).budget
         for requirement in peripheral.requirements:
             chosen = settle_rate(requirement, input_clock, budget) or _slowest(requirement)
-            if requirement.stages:
-                for (name, _), value in zip(requirement.stages, chosen.stages, strict=True):
-                    settings[requirement.stage_setting(name)] = value
-            else:
-                settings[requirement.setting] = chosen.divisor
-            if len(requirement.choices) > 1:
-                settings[requirement.option_setting] = chosen.option
+            match requirement.divisor:
+                case Stages(stages):
+                    for (name, _), value in zip(stages, chosen.stages, strict=True):
+                        settings[requirement.stage_setting(name)] = value
+                case Options(options):
+                    settings[requirement.setting] = chosen.divisor
+                    if len(options) > 1:
+                        settings[requirement.option_setting] = chosen.option
     return settings
 
 
 def _slowest(requirement: Requirement) -> RateSetting:
-    if requirement.stages:
-        stages = tuple(largest(values) for _, values in requirement.stages)
-        return RateSetting(0, math.prod(stages), stages)
-    return RateSetting(0, largest(requirement.choices[0].divisors))
+    match requirement.divisor:
+        case Stages(stages):
+            values = tuple(largest(values) for _, values in stages)
+            return RateSetting(0, math.prod(values), values)
+        case Options(options):
+            return RateSetting(0, largest(options[0].divisors))
 
 
 def settle_rate(
@@ -87,16 +98,24 @@ def settle_rate(
     """The best own settings of ``requirement`` fed by ``input_clock`` hertz from a source with
     ``budget``; None when no allowed divisor meets a ceiling (a tolerance rate always has a
     best divisor, inside its allowance or not)."""
-    if requirement.ceiling:
-        return _fastest_under_ceiling(requirement, input_clock, budget)
+    match requirement:
+        case CeilingRate():
+            return _fastest_under_ceiling(requirement, input_clock, budget)
+        case ToleranceRate():
+            return _nearest_in_tolerance(requirement, input_clock, budget)
+
+
+def _nearest_in_tolerance(
+    requirement: ToleranceRate, input_clock: Fraction, budget: Fraction
+) -> RateSetting:
+    """The divisor (and option) with the smallest worst-case share of the allowance."""
     ideal = input_clock * requirement.numerator / requirement.target
     best: tuple[tuple[Fraction, int, int], RateSetting] | None = None
-    for index, option in enumerate(requirement.choices):
-        for divisor, stages in _around(
-            requirement, option.divisors, ideal, budget, option.allowance
-        ):
+    for index, option in enumerate(requirement.options):
+        allowance = requirement.allowance_of(option)
+        for divisor, stages in _around(requirement, option.divisors, ideal, budget, allowance):
             error = ideal / divisor - 1
-            key = (worst_case(error, budget) / option.allowance, divisor, index)
+            key = (worst_case(error, budget) / allowance, divisor, index)
             if best is None or key < best[0]:
                 best = (key, RateSetting(index, divisor, stages))
     assert best is not None, "every option allows at least one divisor"
@@ -111,9 +130,11 @@ def _around(
     allowance: Fraction,
 ) -> list[tuple[int, tuple[int, ...]]]:
     """The divisors worth comparing exactly: the allowed values around ``ideal``."""
-    if not requirement.stages:
-        return [(value, ()) for value in nearest_values(divisors, ideal)]
-    return _stage_candidates([values for _, values in requirement.stages], ideal, budget, allowance)
+    match requirement.divisor:
+        case Stages(stages):
+            return _stage_candidates([values for _, values in stages], ideal, budget, allowance)
+        case Options():
+            return [(value, ()) for value in nearest_values(divisors, ideal)]
 
 
 def nearest_values(values: Divisors, x: Fraction) -> list[int]:
@@ -186,17 +207,17 @@ def _bracket(values: Divisors, wanted: np.ndarray) -> tuple[np.ndarray, np.ndarr
 
 
 def _fastest_under_ceiling(
-    requirement: Requirement, input_clock: Fraction, budget: Fraction
+    requirement: CeilingRate, input_clock: Fraction, budget: Fraction
 ) -> RateSetting | None:
     """The smallest divisor whose rate, with the budget, stays at or under the maximum (and
     at or over the floor): the fastest the ceiling allows."""
     produced = input_clock * requirement.numerator
-    least = produced * (1 + budget) / requirement.target
+    least = produced * (1 + budget) / requirement.maximum
     most = None
     if requirement.floor is not None:
         most = produced * (1 - budget) / requirement.floor
     best: tuple[tuple[int, int], RateSetting] | None = None
-    for index, option in enumerate(requirement.choices):
+    for index, option in enumerate(requirement.options):
         found = _smallest_at_least(requirement, option.divisors, least)
         if found is None or (most is not None and found[0] > most):
             continue
@@ -210,10 +231,19 @@ def _smallest_at_least(
     requirement: Requirement, divisors: Divisors, least: Fraction
 ) -> tuple[int, tuple[int, ...]] | None:
     """The smallest allowed divisor (or stage product) at or above ``least``."""
-    if not requirement.stages:
-        value = _first_at_least(divisors, least)
-        return None if value is None else (value, ())
-    *others, last = [values for _, values in requirement.stages]
+    match requirement.divisor:
+        case Stages(stages):
+            return _smallest_product_at_least([values for _, values in stages], least)
+        case Options():
+            value = _first_at_least(divisors, least)
+            return None if value is None else (value, ())
+
+
+def _smallest_product_at_least(
+    stages: Sequence[Divisors], least: Fraction
+) -> tuple[int, tuple[int, ...]] | None:
+    """The smallest product of one value per stage at or above ``least``."""
+    *others, last = stages
     best: tuple[int, tuple[int, ...]] | None = None
     for head in _combinations(others):
         product = math.prod(head)

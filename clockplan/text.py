@@ -9,8 +9,9 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan.evaluate import Evaluation, RateCheck
+from clockplan.peripherals.base import AT_RISK_SHARE, format_rate, format_share
 from clockplan.plan import Plan, SettingValue, divider_key, pll_keys
-from clockplan.quantities import exact_string, format_hz, format_relative
+from clockplan.quantities import exact_string, format_hz
 from clockplan.result import RankedPlan
 from clockplan.scenario import Divider, Mux, Pll, Scenario
 
@@ -35,26 +36,15 @@ __all__ = [
     "loop_text",
 ]
 
-AT_RISK_SHARE = Fraction(4, 5)
-"""A rate whose worst case uses more than this share of its allowance is marked "at risk".
-
-Our own convention (no source): it passes, but with less than a fifth of the
-allowance left it deserves a second look before the board is built.
-"""
 PASS, AT_RISK, FAIL = "pass", "at risk", "fail"
 
 
 def rate_verdict(check: RateCheck) -> str:
-    """``"pass"``, ``"at risk"`` (share above 0.8, our own convention) or ``"fail"``.
-
-    A maximum rate (a ceiling) is only pass or fail: the search drives it close to its
-    limit on purpose, budget included.
-    """
+    """``"pass"``, ``"at risk"`` (share above 0.8, our own convention; never for a maximum
+    rate, which the search drives close to its limit on purpose) or ``"fail"``."""
     if not check.passes:
         return FAIL
-    if check.requirement.ceiling:
-        return PASS
-    return AT_RISK if check.share > AT_RISK_SHARE else PASS
+    return AT_RISK if check.at_risk else PASS
 
 
 def worst_verdict(checks: list[RateCheck] | tuple[RateCheck, ...]) -> str:
@@ -102,18 +92,13 @@ def setting_text(scenario: Scenario, plan: Plan, name: str) -> str:
 
 
 def register_value(check: RateCheck) -> Fraction:
-    """The rate's divisor as the peripheral holds it: the count ÷ its scale and option factor."""
-    scale = check.requirement.divisor_scale * check.option.factor
-    return Fraction(check.divisor, scale)
+    """The rate's divisor as the peripheral holds it: the count ÷ its option's factor."""
+    return Fraction(check.divisor, check.option.factor)
 
 
 def rate_settings(check: RateCheck, plan: Plan) -> dict[str, SettingValue]:
     """The plan's settings behind one rate, by full key: its divisor (or stages) and option."""
-    requirement = check.requirement
-    keys = [requirement.stage_setting(name) for name, _ in requirement.stages]
-    keys = keys or [requirement.setting]
-    if len(requirement.choices) > 1:
-        keys.append(requirement.option_setting)
+    keys = check.requirement.setting_keys
     return {key: plan.settings[key] for key in keys if key in plan.settings}
 
 
@@ -152,33 +137,12 @@ def rate_setting_text(check: RateCheck, plan: Plan) -> str:
 
 def limit_text(check: RateCheck) -> str:
     """What the rate must meet: its allowance, or ``"≤ 25 MHz"`` for a maximum."""
-    requirement = check.requirement
-    if not requirement.ceiling:
-        return format_relative(check.allowance)
-    top = format_rate(requirement.target, requirement.unit)
-    if requirement.floor is None:
-        return f"≤ {top}"
-    return f"{format_rate(requirement.floor, requirement.unit)} .. {top}"
-
-
-def format_share(share: Fraction) -> str:
-    """A share of an allowance as a percentage, as every output prints it."""
-    return f"{float(share) * 100:.2f} %"
+    return check.limit_text
 
 
 def proof_text(ranked: RankedPlan) -> str:
     """ "proved", or the first stage the time limit stopped."""
     return "proved" if not ranked.unproved else f"not proved: {ranked.unproved[0]}"
-
-
-def format_rate(value: Fraction, unit: str) -> str:
-    """A rate in hertz with a readable prefix, a bit rate likewise in bit/s (500 kbit/s), or
-    a baud rate as a plain number."""
-    if unit == "baud":
-        return f"{float(value):.7g} Bd"
-    if unit == "bit/s":
-        return format_hz(value).removesuffix("Hz") + "bit/s"
-    return format_hz(value)
 
 
 def loop_text(evaluation: Evaluation, name: str) -> str:

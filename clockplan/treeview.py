@@ -25,7 +25,6 @@ from clockplan.text import (
     FAIL,
     format_rate,
     format_share,
-    limit_text,
     loop_text,
     rate_setting_text,
     rate_verdict,
@@ -123,20 +122,7 @@ def _spaced(phrases: tuple[Text, ...], gap: str) -> tuple[Text, ...]:
 def _rate_phrases(check: RateCheck, plan: Plan) -> Phrases:
     """A rate's verdict, label, achieved value and settings, then its figures below."""
     requirement = check.requirement
-    figures: tuple[Text, ...]
-    if requirement.ceiling:
-        figures = (
-            Text(f"limit {limit_text(check)}:"),
-            Text(f" with the budget at most {format_share(check.share)} of it"),
-            Text(f" ({format_relative(check.worst_case, signed=True)})"),
-        )
-    else:
-        figures = (
-            Text(f"error {format_relative(check.error, signed=True)},"),
-            Text(f" worst {format_relative(check.worst_case)} of {limit_text(check)}"),
-            Text(f" ({format_share(check.share)} used),"),
-            Text(f" margin {format_relative(check.margin, signed=True)}"),
-        )
+    figures = tuple(Text(phrase) for phrase in check.standing_phrases())
     settings = listed(rate_setting_text(check, plan).split(", "))
     what = (
         Text.assemble(verdict_text(rate_verdict(check)), " ", (requirement.label, "bold")),

@@ -13,6 +13,7 @@ import math
 from dataclasses import dataclass
 from fractions import Fraction
 
+from clockplan.peripherals.base import CeilingRate, Options, Stages, ToleranceRate
 from clockplan.plan import Plan
 from clockplan.scenario import Scenario
 
@@ -113,18 +114,19 @@ def _score(scenario: Scenario, setting: dict[str, object], clocks, roots):  # ty
             if found is None:
                 return None
             index, divisor, stages, achieved = found
-            if requirement.stages:
-                for (name, _), value in zip(requirement.stages, stages, strict=True):
-                    settings[f"{requirement.setting}.{name}"] = value
-            else:
-                settings[requirement.setting] = divisor
-            if len(requirement.choices) > 1:
-                settings[requirement.option_setting] = index
-            if requirement.ceiling:
+            match requirement.divisor:
+                case Stages(stages=named):
+                    for (name, _), value in zip(named, stages, strict=True):
+                        settings[f"{requirement.setting}.{name}"] = value
+                case Options(options):
+                    settings[requirement.setting] = divisor
+                    if len(options) > 1:
+                        settings[requirement.option_setting] = index
+            if isinstance(requirement, CeilingRate):
                 ceilings += math.floor(achieved)
                 continue
             error = achieved / requirement.target - 1
-            allowance = requirement.choices[index].allowance
+            allowance = requirement.allowance_of(requirement.options[index])
             shares.append(share_steps(error, budget, allowance))
             errors.append(worst_steps(error, budget))
             exact.append(worst_case(error, budget))
@@ -162,21 +164,23 @@ def _best_own(requirement, input_clock: Fraction, budget: Fraction):  # type: ig
     """The rate's own settings: every option and divisor tried; the smallest exact worst-case
     share wins (ties: smaller divisor, earlier option); a ceiling takes its fastest."""
     best = None
-    for index, option in enumerate(requirement.choices):
+    for index, option in enumerate(requirement.options):
         for divisor, stages in _divisors(requirement, option):
             achieved = requirement.achieved(input_clock, divisor)
-            if requirement.ceiling:
-                fits = achieved * (1 + budget) <= requirement.target and (
-                    requirement.floor is None or achieved * (1 - budget) >= requirement.floor
-                )
-                if not fits:
-                    continue
-                key = (divisor, index, stages)
-            else:
-                error = achieved / requirement.target - 1
-                if worst_case(error, budget) > option.allowance:
-                    continue
-                key = (worst_case(error, budget) / option.allowance, divisor, index, stages)
+            match requirement:
+                case CeilingRate(maximum=maximum, floor=floor):
+                    fits = achieved * (1 + budget) <= maximum and (
+                        floor is None or achieved * (1 - budget) >= floor
+                    )
+                    if not fits:
+                        continue
+                    key = (divisor, index, stages)
+                case ToleranceRate(target=target):
+                    allowance = requirement.allowance_of(option)
+                    error = achieved / target - 1
+                    if worst_case(error, budget) > allowance:
+                        continue
+                    key = (worst_case(error, budget) / allowance, divisor, index, stages)
             if best is None or key < best[0]:
                 best = (key, (index, divisor, stages, achieved))
     return None if best is None else best[1]
@@ -184,8 +188,8 @@ def _best_own(requirement, input_clock: Fraction, budget: Fraction):  # type: ig
 
 def _divisors(requirement, option):  # type: ignore[no-untyped-def]
     """Every divisor an option allows, with the stage values that make it."""
-    if requirement.stages:
-        for combo in itertools.product(*(values for _, values in requirement.stages)):
+    if isinstance(requirement.divisor, Stages):
+        for combo in itertools.product(*requirement.divisor.value_sets):
             yield math.prod(combo), combo
         return
     for value in option.divisors:

@@ -16,8 +16,7 @@ import textwrap
 import pytest
 
 from clockplan import entry
-
-EXIT_INTERRUPTED = 130
+from clockplan.exits import Exit
 
 BLOCK_IN_THE_IMPORT = textwrap.dedent(
     """
@@ -58,7 +57,7 @@ def test_ctrl_c_during_the_imports_exits_130_with_one_line():
         _, err = child.communicate(timeout=120)
     finally:
         child.kill()
-    assert child.returncode == EXIT_INTERRUPTED
+    assert child.returncode == Exit.INTERRUPTED
     assert err == "clockplan: interrupted\n"
 
 
@@ -73,7 +72,7 @@ def test_the_entry_point_turns_an_interrupt_in_any_import_into_exit_130(monkeypa
     monkeypatch.setattr(sys, "meta_path", [Interrupt(), *sys.meta_path])
     with pytest.raises(SystemExit) as stop:
         entry.main_entry()
-    assert stop.value.code == EXIT_INTERRUPTED
+    assert stop.value.code == Exit.INTERRUPTED
     assert capsys.readouterr().err == "clockplan: interrupted\n"
 
 

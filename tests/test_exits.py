@@ -1,13 +1,24 @@
-"""Exit statuses: one enum, and the entry point's import-free copy agrees with it."""
+"""Exit statuses: one enum, light enough for the entry point to hold before its guard."""
 
 from __future__ import annotations
 
-from clockplan import entry
+import json
+import subprocess
+import sys
+
 from clockplan.exits import Exit
 
 
-def test_the_entry_point_exits_130_on_ctrl_c_as_the_enum_says():
-    assert entry.EXIT_INTERRUPTED == Exit.INTERRUPTED == 130
+def test_the_exit_enum_imports_nothing_else_of_clockplan():
+    # the entry point imports it before its Ctrl-C guard: it must stay that light
+    code = (
+        "import json, sys; import clockplan.exits; "
+        "print(json.dumps(sorted(m for m in sys.modules if m.startswith('clockplan'))))"
+    )
+    completed = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    )
+    assert json.loads(completed.stdout) == ["clockplan", "clockplan.exits"]
 
 
 def test_every_exit_status_is_distinct_and_documented():

@@ -11,7 +11,7 @@ import pytest
 
 from clockplan.evaluate import RateCheck
 from clockplan.graphs import dot_text, graphml_text, plan_graph
-from clockplan.peripherals.base import Requirement
+from clockplan.peripherals.base import CeilingRate, Requirement, ToleranceRate
 from clockplan.result import RankedPlan
 from clockplan.scenario import Scenario
 from clockplan.text import AT_RISK, FAIL, PASS, exact_decimal, rate_verdict
@@ -61,12 +61,27 @@ def test_plan_graph_marks_every_verdict():
 
 
 def _check(error: Fraction, allowance: Fraction, *, ceiling: bool = False) -> RateCheck:
-    requirement = Requirement(
-        "p", "rate", "p.divide", Fraction(1000), allowance, "test", ceiling=ceiling
-    )
+    requirement: Requirement
+    if ceiling:
+        requirement = CeilingRate(
+            peripheral="p",
+            label="rate",
+            setting="p.divide",
+            maximum=Fraction(1000),
+            allowance_basis="test",
+        )
+    else:
+        requirement = ToleranceRate(
+            peripheral="p",
+            label="rate",
+            setting="p.divide",
+            target=Fraction(1000),
+            allowance=allowance,
+            allowance_basis="test",
+        )
     achieved = 1000 * (1 + error)
     return RateCheck(
-        requirement, Fraction(1000), 1, achieved, "main", Fraction(0), 0.0, requirement.choices[0]
+        requirement, Fraction(1000), 1, achieved, "main", Fraction(0), 0.0, requirement.options[0]
     )
 
 
@@ -91,7 +106,7 @@ def test_rate_verdict_thresholds(error, verdict):
 )
 def test_a_maximum_rate_is_pass_or_fail_only(error, verdict):
     # 99 % of a ceiling is where the search puts it on purpose: not "at risk".
-    assert rate_verdict(_check(error, Fraction(0), ceiling=True)) == verdict
+    assert rate_verdict(_check(error, Fraction(1), ceiling=True)) == verdict
 
 
 @pytest.mark.parametrize(

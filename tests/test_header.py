@@ -13,6 +13,7 @@ import pytest
 from clockplan.errors import ClockplanError, ScenarioError
 from clockplan.evaluate import evaluate_plan
 from clockplan.header import c_identifier, file_name, header_text
+from clockplan.peripherals.base import Stages
 from clockplan.plan import Plan
 from clockplan.registers import Encoding, UnencodableError
 from clockplan.result import RankedPlan, Status
@@ -61,19 +62,20 @@ def rate_constants(check, settings) -> dict[str, int]:
     count over its scale (an oversampling or a master-clock ratio)."""
     requirement, option, count = check.requirement, check.option, check.divisor
     key = requirement.setting
-    if requirement.stages:
-        return {c_name(key, name): settings[f"{key}.{name}"] for name, _ in requirement.stages}
+    if isinstance(requirement.divisor, Stages):
+        stages = requirement.divisor.stages
+        return {c_name(key, name): settings[f"{key}.{name}"] for name, _ in stages}
     if option.settings:
         segments = {c_name(key, name): value for name, value in option.settings}
         del segments[c_name(key, "quanta")]
         return {c_name(key, "prescaler"): count // option.factor, **segments}
     if requirement.numerator > 1:
-        step = requirement.divisor_scale // requirement.numerator  # the oversampling
+        step = option.factor // requirement.numerator  # the oversampling
         steps = count // step
         whole, fraction = divmod(steps, requirement.numerator)
         return {c_name(key, "whole"): whole, c_name(key, "fraction"): fraction}
-    assert count % requirement.divisor_scale == 0
-    return {c_name(key): count // requirement.divisor_scale}
+    assert count % option.factor == 0
+    return {c_name(key): count // option.factor}
 
 
 def compile_and_run(tmp_path, header: str, names: list[str], absent: list[str]) -> dict[str, str]:

@@ -87,7 +87,7 @@ def test_master_clock_crystals_give_exact_sampling_frequencies(fs, ratio, master
     (check,) = best.evaluation.checks
     assert check.achieved == fs
     assert check.divisor == ratio  # master divider 1, register value divisor / ratio
-    assert check.requirement.divisor_scale == ratio
+    assert check.option.factor == ratio
 
 
 def test_one_requirement_per_sample_rate_with_its_own_setting():

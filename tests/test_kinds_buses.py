@@ -5,6 +5,7 @@ from fractions import Fraction
 import pytest
 
 from clockplan.errors import ScenarioError
+from clockplan.peripherals.base import CeilingRate
 from clockplan.solve import Status, search
 from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
@@ -39,7 +40,7 @@ def bus_requirements(kind: str, mode: str, extra: str = "") -> list:
 )
 def test_i2c_mode_maxima(mode, hertz):
     (requirement,) = bus_requirements("i2c", mode)
-    assert requirement.ceiling and requirement.target == hertz
+    assert isinstance(requirement, CeilingRate) and requirement.maximum == hertz
     assert "UM10204" in requirement.allowance_basis
 
 
@@ -58,13 +59,13 @@ def test_i2c_mode_maxima(mode, hertz):
 )
 def test_sd_mode_maxima(mode, hertz, remembered):
     requirement = bus_requirements("sd", mode)[-1]
-    assert requirement.ceiling and requirement.target == hertz
+    assert isinstance(requirement, CeilingRate) and requirement.maximum == hertz
     assert ("(from memory)" in requirement.allowance_basis) is remembered
 
 
 def test_sd_identification_clock_is_labelled_from_memory():
     first, _ = bus_requirements("sd", "default-speed")
-    assert first.target == 400_000
+    assert first.maximum == 400_000
     assert first.allowance_basis.endswith("identification ≤ 400 kHz (from memory)")
 
 
@@ -74,11 +75,11 @@ def test_spi_mode_starts_at_full_speed_unless_asked():
     # may be clocked at up to 25 MHz from the start; the slow start belongs to the SD bus
     # modes' open-drain identification. identification = true keeps the slow start that many
     # SPI-mode start-up guides ask for (100–400 kHz; common practice).
-    assert [r.target for r in bus_requirements("sd", "spi")] == [25_000_000]
+    assert [r.maximum for r in bus_requirements("sd", "spi")] == [25_000_000]
     slow = bus_requirements("sd", "spi", "identification = true")
-    assert [r.target for r in slow] == [400_000, 25_000_000]
+    assert [r.maximum for r in slow] == [400_000, 25_000_000]
     only = bus_requirements("sd", "identification", "identification = true")
-    assert [r.target for r in only] == [400_000]
+    assert [r.maximum for r in only] == [400_000]
 
 
 BOARD = """
@@ -110,9 +111,9 @@ def test_every_bus_stays_under_its_maximum_and_matches_the_oracle():
     assert best_key(scenario, result.precision)[0] == result.plans[0].worst_steps
     for evaluation in assert_plans_recheck(scenario, result):
         for check in evaluation.checks:
-            assert check.requirement.ceiling
+            assert isinstance(check.requirement, CeilingRate)
             budget = check.source_budget
-            assert check.achieved * (1 + budget) <= check.requirement.target
+            assert check.achieved * (1 + budget) <= check.requirement.maximum
             assert 0 < check.share <= 1
 
 
@@ -136,7 +137,7 @@ def test_sd_adds_its_identification_clock_unless_told_not_to():
     card = scenario_from(text).peripherals[1]
     assert [r.label for r in card.requirements] == ["SD clock (high-speed)"]
     card = scenario_from(BOARD).peripherals[1]
-    assert [r.target for r in card.requirements] == [400_000, 25_000_000]
+    assert [r.maximum for r in card.requirements] == [400_000, 25_000_000]
 
 
 def test_a_floor_is_kept():

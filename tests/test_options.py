@@ -5,8 +5,18 @@ from fractions import Fraction
 
 import pytest
 
+from clockplan.errors import InternalError
 from clockplan.evaluate import evaluate_plan
-from clockplan.peripherals.base import Option, Peripheral, Requirement
+from clockplan.peripherals.base import (
+    CeilingRate,
+    Option,
+    Options,
+    Peripheral,
+    Requirement,
+    Stages,
+    ToleranceRate,
+    plain,
+)
 from clockplan.solve import Status, search
 from tests.helpers import assert_plans_recheck, scenario_from
 from tests.oracle import best_key
@@ -27,33 +37,31 @@ def with_requirements(*requirements: Requirement):
     return replace(scenario, peripherals=(peripheral,))
 
 
-def option_rate() -> Requirement:
+def option_rate() -> ToleranceRate:
     # Two ways to make 500 kbit/s: 8 quanta (loose divisors, tight allowance) or 16 quanta
     # (a wider allowance); the divisor is prescaler × quanta.
     eight = Option(range(8, 8 * 64 + 1, 8), Fraction(3, 1000), "8 tq", 8)
     sixteen = Option(range(16, 16 * 64 + 1, 16), Fraction(6, 1000), "16 tq", 16)
-    return Requirement(
-        "bus",
-        "500 kbit/s",
-        "bus.divisor",
-        Fraction(500_000),
-        Fraction(0),
-        "test",
-        options=(eight, sixteen),
+    return ToleranceRate(
+        peripheral="bus",
+        label="500 kbit/s",
+        setting="bus.divisor",
+        target=Fraction(500_000),
+        allowance=Fraction(6, 1000),
+        allowance_basis="test",
+        divisor=Options((eight, sixteen)),
     )
 
 
-def ceiling_rate(floor: Fraction | None = None) -> Requirement:
-    return Requirement(
-        "bus",
-        "SPI ≤ 3 MHz",
-        "spi.divisor",
-        Fraction(3_000_000),
-        Fraction(0),
-        "test",
-        divisors=(2, 4, 8, 16, 32),
-        ceiling=True,
+def ceiling_rate(floor: Fraction | None = None) -> CeilingRate:
+    return CeilingRate(
+        peripheral="bus",
+        label="SPI ≤ 3 MHz",
+        setting="spi.divisor",
+        maximum=Fraction(3_000_000),
         floor=floor,
+        allowance_basis="test",
+        divisor=plain((2, 4, 8, 16, 32)),
     )
 
 
@@ -103,16 +111,16 @@ def test_floor_that_no_divisor_can_meet_is_infeasible():
     assert search(scenario, top=1).status is Status.INFEASIBLE
 
 
-def timer_rate() -> Requirement:
+def timer_rate() -> ToleranceRate:
     # 1 kHz from the input_clock through a prescaler (1..64) and a reload count (1..256).
-    return Requirement(
-        "bus",
-        "1 kHz tick",
-        "timer.divisor",
-        Fraction(1000),
-        Fraction(1, 10**4),
-        "test",
-        stages=(("prescaler", range(1, 65)), ("reload", range(1, 257))),
+    return ToleranceRate(
+        peripheral="bus",
+        label="1 kHz tick",
+        setting="timer.divisor",
+        target=Fraction(1000),
+        allowance=Fraction(1, 10**4),
+        allowance_basis="test",
+        divisor=Stages((("prescaler", range(1, 65)), ("reload", range(1, 257)))),
     )
 
 
@@ -130,6 +138,6 @@ def test_stages_multiply_to_the_divisor_and_match_the_oracle():
         assert check.error == 0  # 8, 10, 16, 20 MHz ÷ 1, 2, 4 all divide to 1 kHz exactly
 
 
-def test_stages_and_options_do_not_mix():
-    with pytest.raises(ValueError, match="stages or options"):
-        replace(timer_rate(), options=option_rate().options)
+def test_a_divisor_with_no_option_is_refused():
+    with pytest.raises(InternalError, match="at least one option"):
+        Options(())

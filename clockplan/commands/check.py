@@ -8,12 +8,13 @@ from __future__ import annotations
 
 import argparse
 import json
+from dataclasses import dataclass
 
 from rich.console import Console
 
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.errors import InputError
-from clockplan.exits import Exit, search_exit
+from clockplan.exits import Exit
 from clockplan.export import explanation_to_data, plan_to_data
 from clockplan.quantities import format_hz
 from clockplan.render import explanation_text
@@ -34,14 +35,28 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run, top=1)
 
 
+@dataclass(frozen=True)
+class CheckOptions:
+    """What ``clockplan check`` was asked for: its search ranks one plan."""
+
+    search: SearchOptions
+    json: bool
+    """Print the verdict as JSON instead of one line."""
+
+
 def run(args: argparse.Namespace) -> int:
-    """Print the verdict and return the exit status (see the module docstring)."""
+    """Read the parsed arguments once and give the verdict (see :func:`check`)."""
     if args.top < 1:  # check ranks one plan, but a bad --top is still a mistake to report
         raise InputError("--top", f"{args.top} is not a positive count of plans")
-    result = run_search(SearchOptions.of(args, top=1), show_progress=False, explain=True)
-    verdict = search_exit(result)
+    return check(CheckOptions(SearchOptions.of(args, top=1), json=args.json))
+
+
+def check(options: CheckOptions) -> int:
+    """Print the verdict and return the exit status (see the module docstring)."""
+    result = run_search(options.search, show_progress=False, explain=True)
+    verdict = result.exit_status
     best = result.plans[0] if result.plans else None
-    if args.json:
+    if options.json:
         data = {
             "scenario": result.scenario.title,
             "file": result.scenario.file,

@@ -11,7 +11,7 @@ from __future__ import annotations
 import argparse
 import json
 import time
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 from rich.console import Console
 
@@ -67,6 +67,22 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+@dataclass(frozen=True)
+class DiffOptions:
+    """What ``clockplan diff`` was asked for: two plans, each searched with its own time limit."""
+
+    file_a: str
+    file_b: str | None
+    """None: plan B is another rank of ``file_a``."""
+    rank_a: int
+    rank_b: int
+    time_limit: float
+    """Seconds each search may take."""
+    workers: int
+    json: bool
+    """Print the changes as JSON instead of a table."""
+
+
 def _pick(result: SearchResult, rank: int, option: str) -> Side:
     if not result.plans:
         raise InputError(option, f"{result.scenario.file}: no plan to compare ({result.status})")
@@ -78,31 +94,40 @@ def _pick(result: SearchResult, rank: int, option: str) -> Side:
     return Side(result.scenario, result.plans[rank - 1], closest=result.closest)
 
 
-def _search(file: str, top: int, args: argparse.Namespace) -> SearchResult:
+def _search(file: str, top: int, options: DiffOptions) -> SearchResult:
     """One side's search, with a time limit of its own. When no plan meets every allowance
     (proved), the closest plan is searched instead, with a time limit of its own too."""
-    options = SearchOptions(file, top, args.time_limit, args.workers, started=time.monotonic())
-    result = run_search(options, show_progress=not args.json)
+    search = SearchOptions(file, top, options.time_limit, options.workers, started=time.monotonic())
+    result = run_search(search, show_progress=not options.json)
     if result.status is not Status.INFEASIBLE or result.interrupted:
         return result
-    options = replace(options, top=1, started=time.monotonic())
-    return run_search(options, show_progress=not args.json, closest=True)
+    search = replace(search, top=1, started=time.monotonic())
+    return run_search(search, show_progress=not options.json, closest=True)
 
 
 def run(args: argparse.Namespace) -> int:
-    """Search the plans named, compare them and print the changes."""
+    """Read the parsed arguments once and compare the plans (see :func:`diff`)."""
     rank_b = args.rank_b if args.rank_b is not None else (1 if args.file_b else 2)
     for option, rank in (("--rank-a", args.rank_a), ("--rank-b", rank_b)):
         if rank < 1:
             raise InputError(option, f"{rank} is not a rank; ranks start at 1")
-    if args.file_b is None:
-        result = _search(args.file_a, max(args.rank_a, rank_b), args)
-        a, b = _pick(result, args.rank_a, "--rank-a"), _pick(result, rank_b, "--rank-b")
+    options = DiffOptions(
+        args.file_a, args.file_b, args.rank_a, rank_b, args.time_limit, args.workers, args.json
+    )
+    return diff(options)
+
+
+def diff(options: DiffOptions) -> int:
+    """Search the plans named, compare them and print the changes."""
+    rank_a, rank_b = options.rank_a, options.rank_b
+    if options.file_b is None:
+        result = _search(options.file_a, max(rank_a, rank_b), options)
+        a, b = _pick(result, rank_a, "--rank-a"), _pick(result, rank_b, "--rank-b")
     else:
-        a = _pick(_search(args.file_a, args.rank_a, args), args.rank_a, "--rank-a")
-        b = _pick(_search(args.file_b, rank_b, args), rank_b, "--rank-b")
+        a = _pick(_search(options.file_a, rank_a, options), rank_a, "--rank-a")
+        b = _pick(_search(options.file_b, rank_b, options), rank_b, "--rank-b")
     changes = plan_changes(a, b)
-    if args.json:
+    if options.json:
         document = changes_to_data(a, b, changes)
         print(json.dumps(document, indent=2))
         return Exit.OK

@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import argparse
 import json
+from dataclasses import dataclass
 
 from rich.console import Console
 
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
-from clockplan.exits import search_exit
 from clockplan.export import result_to_data
 from clockplan.render import (
     budget_table,
@@ -34,12 +34,26 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
+@dataclass(frozen=True)
+class PlanOptions:
+    """What ``clockplan plan`` was asked for."""
+
+    search: SearchOptions
+    json: bool
+    """Print the plans as JSON instead of tables."""
+
+
 def run(args: argparse.Namespace) -> int:
+    """Read the parsed arguments once and rank the plans (see :func:`plan`)."""
+    return plan(PlanOptions(SearchOptions.of(args), json=args.json))
+
+
+def plan(options: PlanOptions) -> int:
     """Print the ranking; the exit status says whether the best plan fits and was proved."""
-    result = run_search(SearchOptions.of(args), show_progress=not args.json, explain=True)
-    if args.json:
+    result = run_search(options.search, show_progress=not options.json, explain=True)
+    if options.json:
         print(json.dumps(result_to_data(result), indent=2))
-        return search_exit(result)
+        return result.exit_status
     console = Console()
     console.print(status_line(result))
     if result.plans:
@@ -50,4 +64,4 @@ def run(args: argparse.Namespace) -> int:
         console.print(explanation_text(result.explanation))
     elif not result.interrupted:
         console.print("The time limit stopped the search before any plan.", style="bold red")
-    return search_exit(result)
+    return result.exit_status

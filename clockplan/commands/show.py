@@ -10,12 +10,14 @@ from __future__ import annotations
 
 import argparse
 import json
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
 from pathlib import Path
 
 from rich.console import Console
 from rich.text import Text
 
+from clockplan._frozen import frozen
 from clockplan.commands._searching import SearchOptions, add_search_options, run_search
 from clockplan.drawing import plan_svg
 from clockplan.errors import InputError
@@ -71,19 +73,36 @@ def register(subparsers: argparse._SubParsersAction[argparse.ArgumentParser]) ->
     parser.set_defaults(func=run)
 
 
-def _inputs(args: argparse.Namespace) -> tuple[str | Path, ...]:
-    """The scenario file read, which no export may replace."""
-    return (default_scenario_path() if args.file is None else args.file,)
+@dataclass(frozen=True)
+class ShowOptions:
+    """What ``clockplan show`` was asked for."""
+
+    search: SearchOptions
+    """The search, ranking at least ``rank`` plans."""
+    rank: int
+    """Which ranked plan to show, from 1."""
+    exports: Mapping[str, str]
+    """The export paths asked for, by export name (``"svg"`` …), in ``EXPORTS`` order."""
+    force: bool
+    """Replace output files that already exist."""
+    json: bool
+    """Print the shown plan as JSON instead of the tree."""
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "exports", frozen(self.exports))
+
+    @property
+    def inputs(self) -> tuple[str | Path, ...]:
+        """The scenario file read, which no export may replace."""
+        file = self.search.file
+        return (default_scenario_path() if file is None else file,)
 
 
-def _targets(args: argparse.Namespace) -> dict[str, Path]:
+def _targets(options: ShowOptions) -> dict[str, Path]:
     """The export paths asked for, checked before any search work is spent."""
     targets: dict[str, Path] = {}
-    for name in EXPORTS:
-        path = getattr(args, name)
-        if path is None:
-            continue
-        target = check_target(path, force=args.force, option=f"--{name}", inputs=_inputs(args))
+    for name, path in options.exports.items():
+        target = check_target(path, force=options.force, option=f"--{name}", inputs=options.inputs)
         for other, seen in targets.items():
             if seen.resolve() == target.resolve():
                 raise InputError(f"--{name}", f"{path} is also the path of --{other}")
@@ -100,18 +119,30 @@ def _json_document(result: SearchResult, ranked: RankedPlan) -> dict[str, object
 
 
 def run(args: argparse.Namespace) -> int:
-    """Print the tree (or JSON) and write the exports; exit 1 when the plan misses an allowance."""
+    """Read the parsed arguments once and show the plan (see :func:`show`)."""
     if args.rank < 1:
         raise InputError("--rank", f"{args.rank} is not a rank; ranks start at 1")
     if args.top < 1:
         raise InputError("--top", f"{args.top} is not a positive count of plans")
-    targets = _targets(args)
-    options = SearchOptions.of(args, top=max(args.top, args.rank))
-    result = run_search(options, show_progress=not args.json)
+    exports = {name: getattr(args, name) for name in EXPORTS if getattr(args, name) is not None}
+    options = ShowOptions(
+        SearchOptions.of(args, top=max(args.top, args.rank)),
+        rank=args.rank,
+        exports=exports,
+        force=args.force,
+        json=args.json,
+    )
+    return show(options)
+
+
+def show(options: ShowOptions) -> int:
+    """Print the tree (or JSON) and write the exports; exit 1 when the plan misses an allowance."""
+    targets = _targets(options)
+    result = run_search(options.search, show_progress=not options.json)
     console = Console()
-    notes = Console(stderr=True) if args.json else console
+    notes = Console(stderr=True) if options.json else console
     if not result.plans:
-        if args.json:
+        if options.json:
             print(json.dumps(result_to_data(result), indent=2))
         notes.print(status_line(result))
         why = (
@@ -122,10 +153,11 @@ def run(args: argparse.Namespace) -> int:
         sentences = (Text(f"No plan to show; {why}."), Text(" Nothing written."))
         notes.print(Phrases((sentences,)), style="bold red")
         return Exit.NO_PLAN
-    if len(result.plans) < args.rank:
-        raise InputError("--rank", f"{args.rank}: the search ranked only {len(result.plans)} plans")
-    ranked = result.plans[args.rank - 1]
-    if args.json:
+    if len(result.plans) < options.rank:
+        found = len(result.plans)
+        raise InputError("--rank", f"{options.rank}: the search ranked only {found} plans")
+    ranked = result.plans[options.rank - 1]
+    if options.json:
         print(json.dumps(_json_document(result, ranked), indent=2))
     else:
         console.print(status_line(result))
@@ -133,7 +165,7 @@ def run(args: argparse.Namespace) -> int:
         console.print(legend())
     for name, target in targets.items():
         text = EXPORTS[name][1](result, ranked)
-        write_atomic(target, text, force=args.force, option=f"--{name}", inputs=_inputs(args))
+        write_atomic(target, text, force=options.force, option=f"--{name}", inputs=options.inputs)
         notes.print(
             f"wrote {printable(str(target))}", markup=False, highlight=False, soft_wrap=True
         )

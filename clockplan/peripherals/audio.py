@@ -24,7 +24,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement, times
+from clockplan.peripherals.base import Peripheral, ToleranceRate, plain, times
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import (
     QuantityError,
@@ -101,15 +101,14 @@ def read(fields: Fields, name: str) -> Peripheral:
     quality = fields.take_str("quality", "consumer", choices=tuple(QUALITIES))
     allowance, basis = read_allowance(fields, *QUALITIES[quality])
     requirements = tuple(
-        Requirement(
+        ToleranceRate(
             peripheral=name,
             label=f"fs {format_hz(rate)}",
             setting=f"{name}.master_divide_{_setting_name(rate)}",
             target=rate,
             allowance=allowance,
             allowance_basis=basis,
-            divisors=times(divide, ratio),
-            divisor_scale=ratio,
+            divisor=plain(times(divide, ratio), factor=ratio),
         )
         for rate in rates
     )

@@ -32,7 +32,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Divisors, Peripheral, Requirement
+from clockplan.peripherals.base import CeilingRate, Divisors, Peripheral, plain
 from clockplan.peripherals.common import parse_flag, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
@@ -79,17 +79,15 @@ def _ceiling(
     floor: Fraction | None,
     basis: str,
     divide: Divisors,
-) -> Requirement:
-    return Requirement(
+) -> CeilingRate:
+    return CeilingRate(
         peripheral=name,
         label=label,
         setting=setting,
-        target=maximum,
-        allowance=Fraction(0),
-        allowance_basis=basis,
-        divisors=divide,
-        ceiling=True,
+        maximum=maximum,
         floor=floor,
+        allowance_basis=basis,
+        divisor=plain(divide),
     )
 
 

@@ -50,7 +50,15 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Divisors, Option, Peripheral, Requirement, largest, times
+from clockplan.peripherals.base import (
+    Divisors,
+    Option,
+    Options,
+    Peripheral,
+    ToleranceRate,
+    largest,
+    times,
+)
 from clockplan.peripherals.common import read_clock
 from clockplan.quantities import (
     QuantityError,
@@ -352,7 +360,7 @@ def _phase_requirement(
     setting: str,
     tolerance: Callable[[BitTiming], Fraction],
     key: str,
-) -> Requirement:
+) -> ToleranceRate:
     options = timing_options(
         phase.quanta,
         phase.prescaler,
@@ -370,14 +378,14 @@ def _phase_requirement(
             f"no quanta count allowed by the segment limits puts the sample point within "
             f"{low} .. {high}; widen the quanta, segment limits or sample-point window",
         )
-    return Requirement(
+    return ToleranceRate(
         peripheral=name,
         label=label,
         setting=setting,
         target=phase.bitrate,
-        allowance=max(option.allowance for option in options),
+        allowance=max(filter(None, (option.allowance for option in options))),
         allowance_basis=phase.basis,
-        options=options,
+        divisor=Options(options),
         unit="bit/s",
     )
 

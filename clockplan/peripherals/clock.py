@@ -7,7 +7,7 @@ radio reference. Optional internal divider set ``divide``.
 from __future__ import annotations
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.base import Peripheral, ToleranceRate, plain
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
@@ -20,13 +20,13 @@ def read(fields: Fields, name: str) -> Peripheral:
     rate = fields.take("rate", parse_frequency)
     divide = fields.take("divide", parse_integer_choices, (1,))
     allowance, basis = read_allowance(fields, None, "")
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=format_hz(rate),
         setting=f"{name}.divide",
         target=rate,
         allowance=allowance,
         allowance_basis=basis,
-        divisors=divide,
+        divisor=plain(divide),
     )
     return Peripheral(name, "clock", clock, (requirement,))

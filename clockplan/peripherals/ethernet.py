@@ -21,7 +21,7 @@ from dataclasses import dataclass
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.base import Peripheral, ToleranceRate, plain
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_integer_choices
 
@@ -67,13 +67,13 @@ def read(fields: Fields, name: str) -> Peripheral:
     clock = read_clock(fields)
     divide = fields.take("divide", parse_integer_choices, (1,))
     allowance, basis = read_allowance(fields, reference.tolerance, reference.basis)
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=f"{format_hz(reference.rate)} reference",
         setting=f"{name}.divide",
         target=reference.rate,
         allowance=allowance,
         allowance_basis=basis,
-        divisors=divide,
+        divisor=plain(divide),
     )
     return Peripheral(name, kind, clock, (requirement,))

@@ -9,7 +9,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.base import Peripheral, ToleranceRate, plain
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
@@ -25,13 +25,13 @@ def read(fields: Fields, name: str) -> Peripheral:
     rate = fields.take("rate", parse_frequency, Fraction(1))
     chain = fields.take("chain", parse_integer_choices)
     allowance, basis = read_allowance(fields, DEFAULT_ALLOWANCE, "200 ppm; common practice")
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=f"{format_hz(rate)} tick",
         setting=f"{name}.chain",
         target=rate,
         allowance=allowance,
         allowance_basis=basis,
-        divisors=chain,
+        divisor=plain(chain),
     )
     return Peripheral(name, "tick", clock, (requirement,))

@@ -15,7 +15,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.base import Peripheral, Stages, ToleranceRate
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
@@ -36,14 +36,14 @@ def read(fields: Fields, name: str) -> Peripheral:
     prescaler = fields.take("prescaler", parse_integer_choices, SIXTEEN_BITS)
     reload = fields.take("reload", parse_integer_choices, SIXTEEN_BITS)
     allowance, basis = read_allowance(fields, DEFAULT_ALLOWANCE, "0.1 %; common practice")
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=f"{format_hz(rate)} period",
         setting=f"{name}.period",
         target=rate,
         allowance=allowance,
         allowance_basis=basis,
-        stages=(("prescaler", prescaler), ("reload", reload)),
+        divisor=Stages((("prescaler", prescaler), ("reload", reload))),
     )
     details = (("counts", f"prescaler {_span(prescaler)} × reload {_span(reload)}"),)
     return Peripheral(name, "timer", clock, (requirement,), details)

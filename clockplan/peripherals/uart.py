@@ -39,7 +39,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Divisors, Peripheral, Requirement, times
+from clockplan.peripherals.base import Divisors, Peripheral, ToleranceRate, plain, times
 from clockplan.peripherals.common import read_allowance, read_clock
 from clockplan.quantities import (
     HIGHEST_FREQUENCY,
@@ -116,7 +116,7 @@ def read(fields: Fields, name: str) -> Peripheral:
     _check_counts(fields, divisor, scale)
     counts = _scaled(divisor, scale)
     requirements = tuple(
-        Requirement(
+        ToleranceRate(
             peripheral=name,
             label=f"{baud} baud",
             setting=f"{name}.divisor_{baud}",
@@ -124,8 +124,7 @@ def read(fields: Fields, name: str) -> Peripheral:
             allowance=allowance,
             allowance_basis=basis,
             numerator=scale,
-            divisors=times(counts, oversampling),
-            divisor_scale=oversampling * scale,
+            divisor=plain(times(counts, oversampling), factor=oversampling * scale),
             unit="baud",
         )
         for baud in bauds

@@ -25,7 +25,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 from clockplan._fields import Fields
-from clockplan.peripherals.base import Peripheral, Requirement
+from clockplan.peripherals.base import Peripheral, ToleranceRate, plain
 from clockplan.peripherals.common import parse_flag, read_allowance, read_clock
 from clockplan.quantities import format_hz, parse_frequency, parse_integer_choices
 
@@ -80,7 +80,7 @@ def read_full_speed(fields: Fields, name: str) -> Peripheral:
     clock = read_clock(fields)
     tolerance, rule = full_speed_rule(fields.take("full_speed_only_device", parse_flag, False))
     allowance, basis = read_allowance(fields, tolerance, rule)
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label="48 MHz clock",
         setting=f"{name}.divide",
@@ -99,14 +99,14 @@ def read_low_speed(fields: Fields, name: str) -> Peripheral:
     tolerance, rule = low_speed_rule(fields.take("low_speed_device", parse_flag, False))
     allowance, basis = read_allowance(fields, tolerance, rule)
     input_clock = LOW_SPEED_RATE * oversampling
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=f"{format_hz(input_clock)} clock",
         setting=f"{name}.divide",
         target=input_clock,
         allowance=allowance,
         allowance_basis=basis,
-        divisors=divide,
+        divisor=plain(divide),
     )
     details = (("sampling", f"{oversampling}x the 1.5 Mb/s bit rate"),)
     return Peripheral(name, "usb-low-speed", clock, (requirement,), details)
@@ -120,14 +120,14 @@ def read_high_speed(fields: Fields, name: str) -> Peripheral:
     allowance, basis = read_allowance(
         fields, HIGH_SPEED_TOLERANCE, "USB 2.0 §7.1.11: high speed 480 Mb/s ±500 ppm"
     )
-    requirement = Requirement(
+    requirement = ToleranceRate(
         peripheral=name,
         label=f"{format_hz(reference)} PHY reference",
         setting=f"{name}.divide",
         target=reference,
         allowance=allowance,
         allowance_basis=basis,
-        divisors=divide,
+        divisor=plain(divide),
     )
     details = (("PHY", "multiplies the reference to 480 Mb/s; its ppm pass through"),)
     return Peripheral(name, "usb-high-speed", clock, (requirement,), details)

@@ -13,12 +13,13 @@ from __future__ import annotations
 
 import time
 from dataclasses import replace
+from fractions import Fraction
 from typing import cast
 
 from ortools.sat.python import cp_model
 
 from clockplan.evaluate import Evaluation, RateCheck, evaluate_plan
-from clockplan.peripherals.base import Requirement
+from clockplan.peripherals.base import Requirement, ToleranceRate
 from clockplan.plan import Plan
 from clockplan.quantities import format_relative
 from clockplan.result import Explanation, Relaxation
@@ -68,8 +69,10 @@ def beyond_sources(scenario: Scenario) -> tuple[str, ...]:
         ]
         tightest = min(sources, key=lambda source: source.budget)
         for requirement in peripheral.requirements:
-            allowance = max(option.allowance for option in requirement.choices)
-            if requirement.ceiling or tightest.budget <= allowance:
+            if not isinstance(requirement, ToleranceRate):
+                continue  # a maximum has no allowance for a budget to exceed
+            allowance = max(requirement.allowance_of(option) for option in requirement.options)
+            if tightest.budget <= allowance:
                 continue
             found.append(
                 f"{requirement.peripheral} ({requirement.label}) allows "
@@ -125,7 +128,7 @@ def _relax(
             None,
             proved=False,
         )
-    if limit.requirement is not None and not limit.requirement.ceiling:
+    if isinstance(limit.requirement, ToleranceRate):
         return _beyond_the_model(scenario, limit, limit.requirement, deadline)
     return Relaxation(
         limit.text, "letting this limit go alone does not give a plan (proved)", None, None
@@ -188,8 +191,8 @@ def _advice(limit: Limit, evaluation: Evaluation) -> str:
     requirement = limit.requirement
     if requirement is not None:
         check = next(c for c in evaluation.checks if c.requirement == requirement)
-        if not requirement.ceiling:
-            return _allowance_advice(check)
+        if isinstance(requirement, ToleranceRate):
+            return _allowance_advice(check, requirement.allowance_of(check.option))
     if evaluation.violations:
         return "a plan exists where " + "; ".join(evaluation.violations)
     failing = [check for check in evaluation.checks if not check.passes]
@@ -198,14 +201,14 @@ def _advice(limit: Limit, evaluation: Evaluation) -> str:
     return "a plan exists without this limit"
 
 
-def _allowance_advice(check: RateCheck) -> str:
+def _allowance_advice(check: RateCheck, allowance: Fraction) -> str:
     requirement = check.requirement
     label = f"{requirement.peripheral} ({requirement.label})"
     advice = (
         f"allow {format_relative(check.worst_case)} on {label} instead of "
-        f"{format_relative(check.allowance)}"
+        f"{format_relative(allowance)}"
     )
-    room = (check.allowance - abs(check.error)) / (1 + check.error)
+    room = (allowance - abs(check.error)) / (1 + check.error)
     if room > 0:
         advice += (
             f", or choose a source with a budget of at most {format_relative(room)} "

@@ -33,7 +33,17 @@ from fractions import Fraction
 from ortools.sat.python import cp_model
 
 from clockplan.errors import InternalError, ModelTooLargeError
-from clockplan.peripherals.base import Divisors, Option, Requirement, largest, smallest, times
+from clockplan.peripherals.base import (
+    CeilingRate,
+    Divisors,
+    Option,
+    Requirement,
+    Stages,
+    ToleranceRate,
+    largest,
+    smallest,
+    times,
+)
 from clockplan.plan import SettingValue, divider_key, mux_key, pll_keys
 from clockplan.quantities import format_hz, format_relative
 from clockplan.scenario import Divider, Mux, Pll, Scenario
@@ -605,38 +615,25 @@ class _Builder:
         for root, active in handles.roots[node].items():
             self.feeds.setdefault(root, []).append(active)
         unit = handles.units[node]
-        top = unit.numerator * requirement.target.denominator * requirement.numerator
-        scale = requirement.target.numerator * unit.denominator
+        nominal = requirement.nominal
+        top = unit.numerator * nominal.denominator * requirement.numerator
+        scale = nominal.numerator * unit.denominator
         common = math.gcd(top, scale)
         top, scale = top // common, scale // common
-        # achieved / target = top·amount / (scale·count), count = node count × divisor
+        # achieved / nominal = top·amount / (scale·count), count = node count × divisor
         divisor = self.divisor(requirement)
-        if requirement.ceiling:
-            self.add_ceiling(requirement, node, top, scale, divisor)
-            return
-        _Rate(self, requirement, node, top, scale, divisor).build()
+        match requirement:
+            case CeilingRate():
+                self.add_ceiling(requirement, node, top, scale, divisor)
+            case ToleranceRate():
+                _Rate(self, requirement, node, top, scale, divisor).build()
 
     def divisor(self, requirement: Requirement) -> _Divisor:
         """The rate's own divisor as ``head × last``: ``last`` the final stage (or the whole
         divisor), each option with the literal true when it is chosen."""
-        choices = requirement.choices
-        if requirement.stages:
-            head: Term = Term(1, 1, 1)
-            stages = []
-            for name, values in requirement.stages:
-                stage = self.choice(requirement.stage_setting(name), values)
-                stages.append((stage, values))
-            for (stage, values), (name, _) in zip(stages[:-1], requirement.stages, strict=False):
-                term = Term(stage, smallest(values), largest(values))
-                head = self.product(head, term, f"{requirement.setting}*{name}")
-            last, values = stages[-1]
-            return _Divisor(
-                head,
-                Term(last, smallest(values), largest(values)),
-                [(values, True)],
-                [(choices[0], True)],
-                tuple(stage for stage, _ in stages),
-            )
+        if isinstance(requirement.divisor, Stages):
+            return self.stage_product(requirement, requirement.divisor)
+        choices = requirement.divisor.options
         low = min(smallest(option.divisors) for option in choices)
         high = max(largest(option.divisors) for option in choices)
         one = Term(1, 1, 1)
@@ -677,6 +674,25 @@ class _Builder:
             literals.append((option, chosen))
         ranges = [(option.divisors, chosen) for option, chosen in literals]
         return _Divisor(one, Term(var, low, high), ranges, literals, (var, index))
+
+    def stage_product(self, requirement: Requirement, divisor: Stages) -> _Divisor:
+        """A product of stages as ``head × last``: every stage but the last, then the last."""
+        head: Term = Term(1, 1, 1)
+        stages = []
+        for name, values in divisor.stages:
+            stage = self.choice(requirement.stage_setting(name), values)
+            stages.append((stage, values))
+        for (stage, values), (name, _) in zip(stages[:-1], divisor.stages, strict=False):
+            term = Term(stage, smallest(values), largest(values))
+            head = self.product(head, term, f"{requirement.setting}*{name}")
+        last, values = stages[-1]
+        return _Divisor(
+            head,
+            Term(last, smallest(values), largest(values)),
+            [(values, True)],
+            [(divisor.options[0], True)],
+            tuple(stage for stage, _ in stages),
+        )
 
     def counts(
         self, requirement: Requirement, node: str, divisor: _Divisor, low: int, high: int
@@ -729,7 +745,7 @@ class _Builder:
 
     def add_ceiling(
         self,
-        requirement: Requirement,
+        requirement: CeilingRate,
         node: str,
         top: int,
         scale: int,
@@ -741,7 +757,7 @@ class _Builder:
         label = f"{requirement.peripheral} ({requirement.label})"
         held = self.guard(
             f"{requirement.setting} at most",
-            f"{label} at most {format_hz(requirement.target)} with its source's budget",
+            f"{label} at most {format_hz(requirement.maximum)} with its source's budget",
             requirement=requirement,
         )
         kept: list[cp_model.IntVar] = []
@@ -758,7 +774,7 @@ class _Builder:
         low = math.ceil(Fraction(top * amount.low, scale) * (1 + least_budget))
         high = count_in.high * divisor.head.high * divisor.last.high
         if requirement.floor is not None and least_budget < 1:
-            slowest = requirement.floor / requirement.target  # floor as a share of the maximum
+            slowest = requirement.floor / requirement.maximum  # floor as a share of the maximum
             high = min(
                 high, math.floor(Fraction(top * amount.high, scale) * (1 - least_budget) / slowest)
             )
@@ -778,7 +794,7 @@ class _Builder:
                 fast.numerator * top * amount.expr <= fast.denominator * scale * count.expr
             ).only_enforce_if(enforce + held)
             if requirement.floor is not None:
-                wanted = requirement.floor / requirement.target
+                wanted = requirement.floor / requirement.maximum
                 slow = _fit((1 - budgets[root]) / wanted, *sizes, up=False)
                 self.model.add(
                     slow.numerator * top * amount.expr >= slow.denominator * scale * count.expr
@@ -908,7 +924,7 @@ class _Rate:
     def __init__(
         self,
         builder: _Builder,
-        requirement: Requirement,
+        requirement: ToleranceRate,
         node: str,
         top: int,
         scale: int,
@@ -925,6 +941,10 @@ class _Rate:
         self.key = requirement.setting
         self.int_var = builder.int_var
 
+    def allowance(self, option: Option) -> Fraction:
+        """The allowance that comes with ``option`` (its own, else the rate's)."""
+        return self.requirement.allowance_of(option)
+
     def combinations(self) -> Iterator[tuple[str, Fraction, Option, list[cp_model.IntVar]]]:
         """Each source the rate may come from with each option, and their literals."""
         handles = self.builder.handles
@@ -938,7 +958,7 @@ class _Rate:
         builder, requirement = self.builder, self.requirement
         handles = builder.handles
         label = f"{requirement.peripheral} ({requirement.label})"
-        loosest = max(option.allowance for option, _ in self.literals)
+        loosest = max(self.allowance(option) for option, _ in self.literals)
         held = builder.guard(
             f"{self.key} allowance",
             f"{label} within {format_relative(loosest)} worst case",
@@ -946,7 +966,7 @@ class _Rate:
         )
         serving: list[_Serving] = []
         for root, budget, option, enforce in self.combinations():
-            room = option.allowance - budget
+            room = self.allowance(option) - budget
             if room < 0 or budget >= 1:
                 # this source can never serve it: forbid the combination (unless relaxed)
                 if self.divisor.index is None:
@@ -1004,7 +1024,7 @@ class _Rate:
         share = self.int_var(0, share_high, f"share_steps[{self.key}]")
         if divisor.index is None:
             for _, budget, option, enforce, _ in serving:
-                self.share_at_least(share, worst, budget, option.allowance, enforce)
+                self.share_at_least(share, worst, budget, self.allowance(option), enforce)
         else:
             self.table_limits(divisor.index, worst, share, held)
         if builder.relaxable:
@@ -1028,7 +1048,7 @@ class _Rate:
     def restrict_options(self, serving: list[_Serving], held: list[cp_model.IntVar]) -> None:
         """With the options as a table: from each source, only the options it can serve."""
         handles = self.builder.handles
-        options = self.requirement.choices
+        options = self.requirement.options
         for root, active in handles.roots[self.node].items():
             allowed = [
                 index
@@ -1054,15 +1074,15 @@ class _Rate:
         """The chosen option's allowance, looked up by its index: the worst case within it
         (X + ⌈10⁹·b⌉ ≤ ⌊10⁹·a⌋, a hair tighter than exact) and the share of it."""
         handles = self.builder.handles
-        options = self.requirement.choices
-        steps = [math.floor(ERROR_STEPS * option.allowance) for option in options]
+        allowances = [self.allowance(option) for option in self.requirement.options]
+        steps = [math.floor(ERROR_STEPS * allowance) for allowance in allowances]
         allowance_steps = self.model.new_int_var_from_domain(
             cp_model.Domain.from_values(sorted(set(steps))), f"allowance_steps[{self.key}]"
         )
         self.model.add_element(index, steps, allowance_steps)
         # S ≥ 10 000·(X + ⌈10⁹·b⌉)/(10⁹·a): 10⁹·n·S ≥ 10 000·d·(X + ⌈10⁹·b⌉) for a = n/d
-        left = self.table(index, [ERROR_STEPS * o.allowance.numerator for o in options], "left")
-        right = self.table(index, [SHARE_STEPS * o.allowance.denominator for o in options], "right")
+        left = self.table(index, [ERROR_STEPS * a.numerator for a in allowances], "left")
+        right = self.table(index, [SHARE_STEPS * a.denominator for a in allowances], "right")
         held_share = self.int_var(0, _upper(left) * _upper(share), f"share_product[{self.key}]")
         _check(_upper(held_share), self.key)
         self.model.add_multiplication_equality(held_share, [left, share])
@@ -1180,7 +1200,7 @@ class _Rate:
                 math.ceil(
                     SHARE_STEPS
                     * Fraction(worst_high + math.ceil(ERROR_STEPS * budget), ERROR_STEPS)
-                    / option.allowance
+                    / self.allowance(option)
                 )
                 for _, budget, option, _, _ in serving
             )
