@@ -17,7 +17,8 @@ class Exit(IntEnum):
     OK = 0
     """Done: the best plan meets every allowance, and every stage of every plan is proved."""
     NO_PLAN = 1
-    """Proved: no plan meets every limit and allowance."""
+    """Proved: no plan meets every limit and allowance (``crystals``: no oscillator meets
+    every rate; ``pierce``: the gain margin or the drive level check fails)."""
     BAD_INPUT = 2
     """A scenario file or option is wrong; one line says which and why."""
     NOT_PROVED = 3

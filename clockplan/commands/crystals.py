@@ -34,6 +34,7 @@ from clockplan.crystals import (
     usb_full_speed_target,
 )
 from clockplan.errors import InputError
+from clockplan.exits import Exit
 from clockplan.peripherals.base import Divisors
 from clockplan.phrases import Phrases, listed
 from clockplan.quantities import (
@@ -216,7 +217,7 @@ def crystals_report(options: CrystalsOptions) -> int:
         print(json.dumps(_as_json(search, where), indent=2))
     else:
         _print_report(search, where, elapsed)
-    return 0 if search.ranked and search.ranked[0].fits else 1
+    return Exit.OK if search.ranked and search.ranked[0].fits else Exit.NO_PLAN
 
 
 def _refuse_stray_options(options: CrystalsOptions) -> None:

@@ -24,6 +24,7 @@ from clockplan.circuits import (
     analyse_pierce,
 )
 from clockplan.errors import InputError
+from clockplan.exits import Exit
 from clockplan.quantities import (
     Dimension,
     QuantityError,
@@ -133,7 +134,7 @@ def pierce_report(options: PierceOptions) -> int:
         print(json.dumps(_as_json(crystal, board, analysis), indent=2))
     else:
         _print_report(crystal, board, analysis, default_stray=options.stray is None)
-    return 1 if _warnings(crystal, analysis) else 0
+    return Exit.NO_PLAN if _warnings(crystal, analysis) else Exit.OK
 
 
 def _read_inputs(options: PierceOptions) -> tuple[PierceCrystal, PierceBoard]:

@@ -14,6 +14,7 @@ from rich.console import Console
 from rich.table import Table
 
 from clockplan.errors import InputError
+from clockplan.exits import Exit
 from clockplan.quantities import (
     QuantityError,
     exact_string,
@@ -179,7 +180,7 @@ def tick_report(options: TickOptions) -> int:
         print(json.dumps(_as_json(search, suggested, heat, calibration), indent=2))
     else:
         _print_report(search, suggested, heat, calibration)
-    return 0
+    return Exit.OK
 
 
 Parsed = TypeVar("Parsed")
