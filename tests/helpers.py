@@ -7,6 +7,7 @@ bundled board's hand-built plans are the ones the search finds.
 
 from __future__ import annotations
 
+import os
 import textwrap
 from dataclasses import replace
 from fractions import Fraction
@@ -175,3 +176,18 @@ def sketch_ranked(scenario: Scenario) -> RankedPlan:
     settings |= settle_settings(scenario, clocks_only.clocks, clocks_only.roots)
     plan = Plan(sources, settings)
     return RankedPlan(1, plan, evaluate_plan(scenario, plan), Status.FEASIBLE, (), dict(sources))
+
+
+SCREENS = Path(__file__).parent / "rendered" / "commands"
+"""A command's whole screen at one width, recorded (CLOCKPLAN_WRITE_RENDERED=1 records anew)."""
+
+
+def assert_screen_as_recorded(text: str, name: str, width: int) -> None:
+    """``text`` fits ``width`` columns, no cell is cut with an ellipsis, and it is exactly the
+    screen recorded as ``name`` at that width."""
+    assert max(map(len, text.splitlines())) <= width
+    assert "…" not in text
+    path = SCREENS / f"{name}-{width}.txt"
+    if os.environ.get("CLOCKPLAN_WRITE_RENDERED"):
+        path.write_text(text, encoding="utf-8")
+    assert text == path.read_text(encoding="utf-8")
