@@ -467,8 +467,9 @@ def _ranking_tables(search: CrystalSearch, console: Console) -> list[Table]:
     (each repeating the rank and the oscillator), so that no number is folded or cut."""
     ranking = _Ranking.of(search)
     count = len(search.targets)
-    if _width(console, ranking.table(0, count, compact=False)) <= console.width:
-        return [ranking.table(0, count, compact=False)]
+    whole = ranking.table(0, count, compact=False)
+    if _width(console, whole) <= console.width:
+        return [whole]
     # The simple box puts one column beside the next: widths add up, so each rate column is
     # measured once, alone.
     fixed = _width(console, ranking.table(0, 0, compact=True))
